@@ -1,0 +1,58 @@
+#include "spinward/daemon/cli.h"
+
+#include <cstdio>
+#include <string_view>
+
+#include "commands.h"
+
+namespace spinward::daemon {
+namespace {
+
+struct CommandEntry {
+  std::string_view name;
+  int (*run)(const Arguments&);
+  std::string_view summary;
+};
+
+constexpr CommandEntry kCommands[] = {
+    {"analyze", CommandAnalyze, "compute a Welch PSD and band values from a recording (WAV, CSV, raw)"},
+    {"demo", CommandDemo, "run the built-in demonstration (an invented booster pump station)"},
+};
+
+void PrintUsage(std::FILE* out) {
+  std::fprintf(out,
+               "usage: spinward COMMAND [options]   (spinward COMMAND --help for a command's options)\n"
+               "\nSpinward watches rotating machines: streaming vibration spectra, band trends and\n"
+               "advisory alarms. It is not a protection system; site maintenance rules prevail.\n\n"
+               "commands:\n");
+  for (const auto& command : kCommands) {
+    std::fprintf(out, "  %-14s %s\n", std::string(command.name).c_str(),
+                 std::string(command.summary).c_str());
+  }
+}
+
+}  // namespace
+
+int RunCli(int argc, char** argv) {
+  if (argc < 2) {
+    PrintUsage(stderr);
+    return 2;
+  }
+  std::string_view name = argv[1];
+  if (name == "--help" || name == "-h" || name == "help") {
+    PrintUsage(stdout);
+    return 0;
+  }
+  if (name == "--version") {
+    std::printf("spinward 0.1.0\n");
+    return 0;
+  }
+  Arguments args(argv + 2, argv + argc);
+  for (const auto& command : kCommands) {
+    if (command.name == name) return command.run(args);
+  }
+  std::fprintf(stderr, "spinward: unknown command '%s' (spinward --help lists them)\n", argv[1]);
+  return 2;
+}
+
+}  // namespace spinward::daemon

@@ -1,0 +1,14 @@
+// Entry points of the CLI's commands; each takes the arguments after the command name.
+#pragma once
+
+#include <string>
+#include <vector>
+
+namespace spinward::daemon {
+
+using Arguments = std::vector<std::string>;
+
+int CommandAnalyze(const Arguments& args);
+int CommandDemo(const Arguments& args);
+
+}  // namespace spinward::daemon

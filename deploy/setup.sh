@@ -1,0 +1,28 @@
+#!/usr/bin/env bash
+# Installs the Debian packages Spinward builds, tests and runs with. Idempotent: when everything is
+# already there it only checks, and touches no package list.
+set -euo pipefail
+
+packages=(
+  cmake g++ make pkg-config ninja-build
+  libfftw3-dev libboost-dev libsqlite3-dev libspdlog-dev libyaml-cpp-dev
+  libgtest-dev libgmock-dev libbenchmark-dev
+  python3 python3-scipy python3-numpy
+  sqlite3 clang-format
+)
+
+missing=()
+for p in "${packages[@]}"; do
+  dpkg-query -W -f='${Status}' "$p" 2>/dev/null | grep -q "install ok installed" || missing+=("$p")
+done
+
+if ((${#missing[@]})); then
+  echo "spinward setup: installing ${missing[*]}"
+  if [[ $(id -u) -ne 0 ]]; then
+    echo "spinward setup: missing packages and not root; run as root or install: ${missing[*]}" >&2
+    exit 1
+  fi
+  export DEBIAN_FRONTEND=noninteractive
+  apt-get update -qq
+  apt-get install -y -qq --no-install-recommends "${missing[@]}"
+fi
