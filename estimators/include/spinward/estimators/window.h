@@ -14,13 +14,22 @@
 
 namespace spinward::estimators {
 
-enum class WindowKind { kRectangular, kHann, kHamming, kBlackman, kBlackmanHarris, kFlatTop, kKaiser };
+enum class WindowKind {
+  kRectangular,
+  kHann,
+  kHamming,
+  kBlackman,
+  kBlackmanHarris,
+  kFlatTop,
+  kKaiser
+};
 enum class WindowSymmetry { kPeriodic, kSymmetric };
 
 struct WindowSpec {
   WindowKind kind = WindowKind::kHann;
   WindowSymmetry symmetry = WindowSymmetry::kPeriodic;
   double kaiser_beta = 14.0;  // used by kKaiser only
+  bool operator==(const WindowSpec&) const = default;
 };
 
 // Parses "hann", "hamming", "blackman", "blackmanharris", "flattop", "rectangular" (or "boxcar"),
@@ -35,13 +44,16 @@ class Window {
   const WindowSpec& spec() const { return spec_; }
   std::size_t size() const { return w_.size(); }
   std::span<const double> coefficients() const { return w_; }
-  double sum() const { return sum_; }                        // signed: flat-top dips below zero
+  double sum() const { return sum_; }  // signed: flat-top dips below zero
   double sum_of_squares() const { return sum_of_squares_; }
-  double coherent_gain() const;                              // sum(w) / L
-  double enbw_bins() const;                                  // L * sum(w^2) / sum(w)^2
-  double enbw_hz(double sample_rate_hz, std::size_t fft_length) const;  // enbw_bins * fs / M
-  double amplitude_correction() const;                       // L / sum(w): restores a sine's peak
-  double energy_correction() const;                          // sqrt(L / sum(w^2)): restores RMS
+  double coherent_gain() const;  // sum(w) / L
+  double enbw_bins() const;      // L * sum(w^2) / sum(w)^2
+  // ENBW in Hz, fs * sum(w^2) / sum(w)^2. It depends on the window and fs only: zero-padding to a
+  // longer FFT narrows the bins, not the window's noise bandwidth.
+  double enbw_hz(double sample_rate_hz) const;
+  double enbw_fft_bins(std::size_t fft_length) const;  // the same in bins of fs / M
+  double amplitude_correction() const;                 // L / sum(w): restores a sine's peak
+  double energy_correction() const;                    // sqrt(L / sum(w^2)): restores RMS
 
  private:
   Window(WindowSpec spec, std::vector<double> w);
