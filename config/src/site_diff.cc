@@ -1,0 +1,111 @@
+#include "spinward/config/site_diff.h"
+
+namespace spinward::config {
+namespace {
+
+// Written out field by field: the estimator option types carry no operator==, and a field added to
+// a struct later must be added here too (a reload would otherwise miss its change).
+bool Same(const estimators::WindowSpec& a, const estimators::WindowSpec& b) {
+  return a.kind == b.kind && a.symmetry == b.symmetry &&
+         (a.kind != estimators::WindowKind::kKaiser || a.kaiser_beta == b.kaiser_beta);
+}
+
+bool Same(const estimators::BandSpec& a, const estimators::BandSpec& b) {
+  return a.name == b.name && a.lo_hz == b.lo_hz && a.hi_hz == b.hi_hz && a.unit == b.unit;
+}
+
+bool Same(const std::optional<estimators::Sensitivity>& a,
+          const std::optional<estimators::Sensitivity>& b) {
+  if (a.has_value() != b.has_value()) return false;
+  return !a || (a->volts_per_unit == b->volts_per_unit && a->unit == b->unit);
+}
+
+bool Same(const ProfileConfig& a, const ProfileConfig& b) {
+  return a.segment_length == b.segment_length && a.overlap == b.overlap &&
+         a.fft_length == b.fft_length && Same(a.window, b.window) && a.detrend == b.detrend &&
+         a.averaging == b.averaging && a.interval_s == b.interval_s &&
+         a.time_constant_s == b.time_constant_s;
+}
+
+bool Same(const MachineConfig& a, const MachineConfig& b) {
+  return a.name == b.name && a.kind == b.kind && a.speed_rpm == b.speed_rpm &&
+         a.iso_group == b.iso_group && a.support == b.support;
+}
+
+bool SamePointKeys(const PointConfig& a, const PointConfig& b) {
+  if (a.bands.size() != b.bands.size()) return false;
+  for (std::size_t i = 0; i < a.bands.size(); ++i) {
+    if (!Same(a.bands[i], b.bands[i])) return false;
+  }
+  return a.machine == b.machine && a.location == b.location && a.direction == b.direction &&
+         a.sensor == b.sensor && Same(a.sensitivity, b.sensitivity) && a.unit == b.unit &&
+         a.sample_rate_hz == b.sample_rate_hz && a.profile == b.profile;
+}
+
+// Both referenced entries missing counts as the same; one missing as a change.
+template <typename Entry>
+bool SameReferenced(const Entry* a, const Entry* b) {
+  if (a == nullptr || b == nullptr) return a == b;
+  return Same(*a, *b);
+}
+
+bool Same(const ListenerConfig& a, const ListenerConfig& b) {
+  return a.type == b.type && a.address == b.address && a.port == b.port &&
+         a.max_connections == b.max_connections && a.idle_timeout_s == b.idle_timeout_s &&
+         a.max_frame_bytes == b.max_frame_bytes && a.allowed_peers == b.allowed_peers;
+}
+
+bool Same(const DropFileConfig& a, const DropFileConfig& b) {
+  return a.pattern == b.pattern && a.point == b.point && a.format == b.format &&
+         a.sample_rate_hz == b.sample_rate_hz;
+}
+
+bool Same(const DropDirectoryConfig& a, const DropDirectoryConfig& b) {
+  if (a.path != b.path || a.poll_interval_s != b.poll_interval_s) return false;
+  if (a.files.size() != b.files.size()) return false;
+  for (std::size_t i = 0; i < a.files.size(); ++i) {
+    if (!Same(a.files[i], b.files[i])) return false;
+  }
+  return true;
+}
+
+template <typename Entry>
+bool SameList(const std::vector<Entry>& a, const std::vector<Entry>& b) {
+  if (a.size() != b.size()) return false;
+  for (std::size_t i = 0; i < a.size(); ++i) {
+    if (!Same(a[i], b[i])) return false;
+  }
+  return true;
+}
+
+}  // namespace
+
+SiteDiff DiffSites(const SiteConfig& before, const SiteConfig& after) {
+  SiteDiff diff;
+  for (const auto& point : after.points) {
+    const PointConfig* old = before.FindPoint(point.id);
+    if (old == nullptr) {
+      diff.added.push_back(point.id);
+    } else if (SamePointKeys(*old, point) &&
+               SameReferenced(before.FindProfile(old->profile), after.FindProfile(point.profile)) &&
+               SameReferenced(before.FindMachine(old->machine), after.FindMachine(point.machine))) {
+      diff.unchanged.push_back(point.id);
+    } else {
+      diff.changed.push_back(point.id);
+    }
+  }
+  for (const auto& point : before.points) {
+    if (after.FindPoint(point.id) == nullptr) diff.removed.push_back(point.id);
+  }
+  diff.site_changed = before.site.name != after.site.name;
+  diff.listeners_changed = !SameList(before.listeners, after.listeners);
+  diff.drop_directory_changed =
+      before.drop_directory.has_value() != after.drop_directory.has_value() ||
+      (before.drop_directory && !Same(*before.drop_directory, *after.drop_directory));
+  diff.storage_changed = before.storage.path != after.storage.path;
+  diff.logging_changed =
+      before.logging.level != after.logging.level || before.logging.file != after.logging.file;
+  return diff;
+}
+
+}  // namespace spinward::config

@@ -1,0 +1,97 @@
+// Reload on SIGHUP: which points keep running, which are rebuilt, which start and which stop.
+#include "spinward/config/site_diff.h"
+
+#include <gtest/gtest.h>
+
+#include <string>
+
+#include "spinward/config/site_loader.h"
+
+namespace spinward::config {
+namespace {
+
+// A small site with a text hole for each experiment.
+std::string Site(const std::string& profile_extra, const std::string& machine_rpm,
+                 const std::string& points, const std::string& listener_port = "7301") {
+  return "site: {name: Larkfield}\n"
+         "machines:\n"
+         "  - {id: P-101, speed_rpm: " +
+         machine_rpm +
+         "}\n"
+         "  - {id: P-102, speed_rpm: 1480}\n"
+         "profiles:\n"
+         "  - {id: standard, segment: 4096" +
+         profile_extra +
+         "}\n"
+         "  - {id: fine, segment: 16384}\n"
+         "points:\n" +
+         points + "listeners: [{port: " + listener_port + "}]\n";
+}
+
+const std::string kDe =
+    "  - {id: DE, machine: P-101, sensor: S-DE, sample_rate_hz: 25600, profile: standard}\n";
+const std::string kNde =
+    "  - {id: NDE, machine: P-101, sensor: S-NDE, sample_rate_hz: 25600, profile: standard}\n";
+const std::string kOther =
+    "  - {id: P2, machine: P-102, sensor: S-P2, sample_rate_hz: 25600, profile: fine}\n";
+
+SiteConfig Load(const std::string& text) {
+  LoadedSite loaded = ParseSiteText(text, "diff.yaml");
+  EXPECT_TRUE(loaded.ok()) << (loaded.problems.empty() ? "" : loaded.problems[0].ToString());
+  return loaded.site;
+}
+
+using Ids = std::vector<std::string>;
+
+TEST(SiteDiff, IdenticalSitesChangeNothing) {
+  SiteConfig site = Load(Site("", "1480", kDe + kNde + kOther));
+  SiteDiff diff = DiffSites(site, site);
+  EXPECT_TRUE(diff.empty());
+  EXPECT_EQ(diff.unchanged, (Ids{"DE", "NDE", "P2"}));
+}
+
+TEST(SiteDiff, AddedRemovedAndEditedPoints) {
+  SiteConfig before = Load(Site("", "1480", kDe + kNde + kOther));
+  const std::string de_faster =
+      "  - {id: DE, machine: P-101, sensor: S-DE, sample_rate_hz: 51200, profile: standard}\n";
+  const std::string added =
+      "  - {id: DE-A, machine: P-101, sensor: S-DE-A, sample_rate_hz: 25600, profile: standard}\n";
+  SiteConfig after = Load(Site("", "1480", de_faster + kOther + added));
+  SiteDiff diff = DiffSites(before, after);
+  EXPECT_EQ(diff.changed, (Ids{"DE"}));
+  EXPECT_EQ(diff.unchanged, (Ids{"P2"}));
+  EXPECT_EQ(diff.added, (Ids{"DE-A"}));
+  EXPECT_EQ(diff.removed, (Ids{"NDE"}));
+  EXPECT_FALSE(diff.listeners_changed);
+}
+
+TEST(SiteDiff, ProfileChangeReachesEveryPointUsingIt) {
+  SiteConfig before = Load(Site("", "1480", kDe + kNde + kOther));
+  SiteConfig after = Load(Site(", window: hamming", "1480", kDe + kNde + kOther));
+  SiteDiff diff = DiffSites(before, after);
+  EXPECT_EQ(diff.changed, (Ids{"DE", "NDE"}));
+  EXPECT_EQ(diff.unchanged, (Ids{"P2"}));
+}
+
+TEST(SiteDiff, MachineChangeReachesItsPoints) {
+  SiteConfig before = Load(Site("", "1480", kDe + kNde + kOther));
+  SiteConfig after = Load(Site("", "1490", kDe + kNde + kOther));
+  SiteDiff diff = DiffSites(before, after);
+  EXPECT_EQ(diff.changed, (Ids{"DE", "NDE"}));
+  EXPECT_EQ(diff.unchanged, (Ids{"P2"}));
+}
+
+TEST(SiteDiff, BandChangeAndListenerChange) {
+  SiteConfig before = Load(Site("", "1480", kDe + kOther));
+  const std::string de_band =
+      "  - {id: DE, machine: P-101, sensor: S-DE, sample_rate_hz: 25600, profile: standard,\n"
+      "     bands: [{name: v, lo_hz: 10, hi_hz: 1000}]}\n";
+  SiteConfig after = Load(Site("", "1480", de_band + kOther, "7302"));
+  SiteDiff diff = DiffSites(before, after);
+  EXPECT_EQ(diff.changed, (Ids{"DE"}));
+  EXPECT_TRUE(diff.listeners_changed);
+  EXPECT_FALSE(diff.storage_changed);
+}
+
+}  // namespace
+}  // namespace spinward::config
