@@ -93,6 +93,44 @@ ReferenceSpectrum ScipyWelch(std::span<const double> signal,
   return reference;
 }
 
+ReferenceWindows ScipyGetWindows(std::span<const estimators::WindowSpec> specs,
+                                 std::span<const std::size_t> lengths) {
+  ReferenceWindows reference;
+  std::ostringstream json;
+  json.precision(17);
+  json << "[";
+  for (std::size_t i = 0; i < specs.size(); ++i) {
+    json << (i == 0 ? "" : ", ") << "{\"window\": \"" << ScipyWindowName(specs[i].kind)
+         << "\", \"kaiser_beta\": " << specs[i].kaiser_beta << ", \"symmetric\": "
+         << (specs[i].symmetry == estimators::WindowSymmetry::kSymmetric ? "true" : "false")
+         << ", \"nperseg\": " << lengths[i] << "}";
+  }
+  json << "]";
+  const auto dir = FreshTempDir("scipy-window");
+  const auto output = dir / "windows.f64";
+  const std::string command =
+      ReferencePython() + " " +
+      (SourceDir() / "tests" / "reference" / "welch_reference.py").string() + " window " +
+      output.string() + " '" + json.str() + "'";
+  const CommandResult run = RunCommand(command);
+  if (run.exit_code != 0) {
+    reference.error = "reference failed (exit " + std::to_string(run.exit_code) + "): " + command +
+                      "\n" + run.error_output;
+    return reference;
+  }
+  std::ifstream in(output, std::ios::binary);
+  for (std::size_t length : lengths) {
+    std::vector<double> w(length);
+    in.read(reinterpret_cast<char*>(w.data()),
+            static_cast<std::streamsize>(length * sizeof(double)));
+    reference.windows.push_back(std::move(w));
+  }
+  reference.ok = in.good();
+  if (!reference.ok) reference.error = "short read from " + output.string();
+  std::filesystem::remove_all(dir);
+  return reference;
+}
+
 ::testing::AssertionResult SpectraClose(std::span<const double> actual,
                                         std::span<const double> expected, double rel_tol,
                                         double floor_fraction) {

@@ -27,6 +27,16 @@ struct ReferenceSpectrum {
 ReferenceSpectrum ScipyWelch(std::span<const double> signal,
                              const estimators::WelchOptions& options);
 
+// scipy.signal.get_window for each spec and length, in one Python call (empty and `error` set on
+// failure).
+struct ReferenceWindows {
+  bool ok = false;
+  std::string error;
+  std::vector<std::vector<double>> windows;
+};
+ReferenceWindows ScipyGetWindows(std::span<const estimators::WindowSpec> specs,
+                                 std::span<const std::size_t> lengths);
+
 // Every bin within rel_tol of the reference, or within floor_fraction x max(|reference|) for bins
 // that are numerically zero (where a relative error means nothing).
 ::testing::AssertionResult SpectraClose(std::span<const double> actual,

@@ -9,6 +9,7 @@
 // spectrum's largest value instead.
 #include <gtest/gtest.h>
 
+#include <ostream>
 #include <string>
 #include <vector>
 
@@ -29,6 +30,9 @@ struct Case {
   std::size_t signal_length = 8000;
   WelchOptions options;
 };
+
+// gtest prints a failing parameter with this instead of its bytes.
+void PrintTo(const Case& c, std::ostream* os) { *os << c.name; }
 
 WelchOptions Base() {
   WelchOptions o;

@@ -10,6 +10,10 @@ Usage: welch_reference.py INPUT OUTPUT PARAMS_JSON
                 "mean"|"median"|"exponential"|"peak", "tau"}
 Prints one JSON line: {"bins": ..., "segments": ..., "scipy": version}.
 
+Usage: welch_reference.py window OUTPUT WINDOWS_JSON
+  WINDOWS_JSON  a list of {"window", "kaiser_beta", "symmetric", "nperseg"}
+  OUTPUT  scipy.signal.get_window of each, concatenated, raw little-endian float64
+
 'mean' and 'median' come straight from scipy.signal.welch. SciPy has no exponential or peak-hold
 average, so those take the per-segment periodograms of scipy.signal.spectrogram(mode='psd') (the
 same segments, detrending, window, scaling and one-sided doubling as welch) and combine them here:
@@ -34,7 +38,16 @@ def window_for(params):
     return scipy.signal.get_window(spec, n, fftbins=not params.get("symmetric", False))
 
 
+def windows(argv):
+    out = [window_for(params) for params in json.loads(argv[3])]
+    np.ascontiguousarray(np.concatenate(out), dtype="<f8").tofile(argv[2])
+    print(json.dumps({"windows": len(out), "scipy": scipy.__version__}))
+    return 0
+
+
 def main(argv):
+    if len(argv) == 4 and argv[1] == "window":
+        return windows(argv)
     if len(argv) != 4:
         sys.stderr.write(__doc__)
         return 2
