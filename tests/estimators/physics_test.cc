@@ -131,7 +131,9 @@ TEST(Physics, WhiteNoiseDensityIsTwoSigmaSquaredOverFs) {
   //   0.5 Y[m] - 0.25 (Y[m-1] + Y[m+1]) of independent rectangular bins Y: neighbours correlate
   //   with rho -2/3, bins two apart with 1/6; for |X|^2 of Gaussians that is rho^2 = 4/9 and 1/36,
   //   so the mean of B bins has relative variance (1 + 2 (4/9 + 1/36)) / B = 1.944 / B.
-  // Together: relative std of the mean density ~ sqrt(1.222 x 1.944 / (K B)).
+  // Together: relative std of the mean density ~ sqrt(1.222 x 1.944 / (K B)). Cross-checked once
+  // over 40 seeds: measured 1.24e-3 against 1.51e-3 predicted, so the 5-sigma bound is if anything
+  // loose, not tight.
   // DC, bin 1 (touched by the mean removal through Hann leakage) and Nyquist are left out.
   const double fs = 10000.0;
   const double sigma = 0.7;
