@@ -175,10 +175,10 @@ OverallIndicators IndicatorAccumulator::Current() const {
   out.peak = std::max(0.0, std::max(max_ - mean_, mean_ - min_));
   out.rms = std::sqrt(m2_ / n);
   // Zero variance (one sample, a constant signal): crest factor and kurtosis are 0/0; report 0.
-  if (m2_ > 0.0 && out.rms > 0.0) {
-    out.crest_factor = out.peak / out.rms;
-    out.kurtosis = n * m4_ / (m2_ * m2_);
-  }
+  // Also when m2^2 underflows (deviations below ~1e-154): 0, not NaN or Inf.
+  if (out.rms > 0.0) out.crest_factor = out.peak / out.rms;
+  const double m2_squared = m2_ * m2_;
+  if (m2_squared > 0.0 && std::isfinite(m2_squared)) out.kurtosis = n * m4_ / m2_squared;
   return out;
 }
 

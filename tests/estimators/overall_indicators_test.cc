@@ -220,6 +220,12 @@ TEST(IndicatorAccumulator, DegenerateIntervalsGiveZerosNotNaN) {
   EXPECT_EQ(constant.crest_factor, 0.0);
   EXPECT_EQ(constant.kurtosis, 0.0);
   EXPECT_FALSE(std::isnan(constant.kurtosis));
+
+  // Deviations ~1e-160: their squares are subnormal, m2^2 and m4 underflow to 0; still no NaN.
+  const auto tiny = Indicators({1e-160, -1e-160, 3e-160});
+  EXPECT_GT(tiny.rms, 0.0);
+  EXPECT_TRUE(std::isfinite(tiny.kurtosis));
+  EXPECT_TRUE(std::isfinite(tiny.crest_factor));
 }
 
 TEST(IndicatorAccumulator, RejectsNonFiniteBlocksWhole) {
