@@ -10,5 +10,8 @@ using Arguments = std::vector<std::string>;
 
 int CommandAnalyze(const Arguments& args);
 int CommandDemo(const Arguments& args);
+int CommandFeed(const Arguments& args);
+int CommandReplay(const Arguments& args);
+int CommandRun(const Arguments& args);
 
 }  // namespace spinward::daemon

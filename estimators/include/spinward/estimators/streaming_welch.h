@@ -58,6 +58,7 @@ struct WelchOptions {
   std::size_t EffectiveFftLength() const { return fft_length == 0 ? segment_length : fft_length; }
   std::size_t Hop() const { return segment_length - overlap; }
   std::size_t BinCount() const;  // one-sided: M/2 + 1; two-sided: M
+  bool operator==(const WelchOptions&) const = default;
 };
 
 // Overlap in whole samples for a percentage of the segment, rounded to the nearest sample.

@@ -1,0 +1,215 @@
+#include "spinward/daemon/channel_pipeline.h"
+
+#include <cmath>
+#include <limits>
+#include <span>
+#include <utility>
+
+namespace spinward::daemon {
+namespace {
+
+bool SameRate(double a, double b) { return std::fabs(a - b) <= 1e-9 * std::fabs(b); }
+
+}  // namespace
+
+std::string_view ToString(BlockVerdict verdict) {
+  switch (verdict) {
+    case BlockVerdict::kAccepted:
+      return "accepted";
+    case BlockVerdict::kRateMismatch:
+      return "rate_mismatch";
+    case BlockVerdict::kNonFiniteSamples:
+      return "non_finite_samples";
+    case BlockVerdict::kNotScalable:
+      return "volts_without_sensitivity";
+    case BlockVerdict::kEmpty:
+      return "empty";
+  }
+  return "unknown";
+}
+
+Status PointSettings::Validate() const {
+  if (point_id.empty()) return Status::Fail("point id is empty");
+  if (!(sample_rate_hz > 0.0) || !std::isfinite(sample_rate_hz)) {
+    return Status::Fail("point " + point_id + ": sample_rate_hz " + std::to_string(sample_rate_hz) +
+                        " must be positive");
+  }
+  if (!SameRate(welch.sample_rate_hz, sample_rate_hz)) {
+    return Status::Fail("point " + point_id + ": estimator sample rate " +
+                        std::to_string(welch.sample_rate_hz) + " differs from the point's " +
+                        std::to_string(sample_rate_hz));
+  }
+  if (Status s = welch.Validate(); !s.ok())
+    return Status::Fail("point " + point_id + ": " + s.message());
+  if (welch.scaling != estimators::Scaling::kDensity ||
+      welch.sides != estimators::Sides::kOneSided) {
+    return Status::Fail("point " + point_id +
+                        ": the pipeline needs a one-sided density spectrum to integrate bands");
+  }
+  if (welch.segments_per_average == 0) {
+    return Status::Fail("point " + point_id + ": segments_per_average 0: the interval must be set");
+  }
+  if (estimators::QuantityOf(sample_unit) != estimators::Quantity::kAcceleration) {
+    return Status::Fail("point " + point_id + ": sample unit " +
+                        std::string(estimators::ToString(sample_unit)) + " is not an acceleration");
+  }
+  for (const auto& band : bands) {
+    if (Status s = band.Validate(sample_rate_hz); !s.ok()) {
+      return Status::Fail("point " + point_id + ": band " + band.name + ": " + s.message());
+    }
+  }
+  return Status::Ok();
+}
+
+Result<std::unique_ptr<ChannelPipeline>> ChannelPipeline::Create(PointSettings settings,
+                                                                 std::shared_ptr<RecordSink> sink) {
+  if (Status s = settings.Validate(); !s.ok()) return Error{s.message()};
+  auto welch = estimators::StreamingWelch::Create(settings.welch);
+  if (!welch.ok()) return Error{"point " + settings.point_id + ": " + welch.message()};
+  return std::unique_ptr<ChannelPipeline>(
+      new ChannelPipeline(std::move(settings), std::move(welch).value(), std::move(sink)));
+}
+
+ChannelPipeline::ChannelPipeline(PointSettings settings, estimators::StreamingWelch welch,
+                                 std::shared_ptr<RecordSink> sink)
+    : settings_(std::move(settings)), welch_(std::move(welch)), sink_(std::move(sink)) {}
+
+std::int64_t ChannelPipeline::TimeOfRunSample(std::uint64_t index) const {
+  return run_start_ns_ + static_cast<std::int64_t>(std::llround(static_cast<double>(index) * 1e9 /
+                                                                settings_.sample_rate_hz));
+}
+
+// Samples of the current run still needed before the average in progress completes: the end of
+// segment j of a run is at L + j*H, and the average completes after segments_per_average segments.
+std::size_t ChannelPipeline::SamplesUntilAverageCompletes() const {
+  const auto& w = settings_.welch;
+  const std::uint64_t length = w.segment_length;
+  const std::uint64_t hop = w.Hop();
+  const std::uint64_t done_in_run = run_samples_ < length ? 0 : (run_samples_ - length) / hop + 1;
+  const std::uint64_t have = welch_.segments_in_average();
+  const std::uint64_t need = w.segments_per_average > have ? w.segments_per_average - have : 1;
+  const std::uint64_t end = length + (done_in_run + need - 1) * hop;
+  return static_cast<std::size_t>(end - run_samples_);
+}
+
+void ChannelPipeline::Restart(const SampleBlock& block) {
+  welch_.Reset();
+  in_run_ = true;
+  run_start_ns_ = block.first_sample_ns;
+  run_samples_ = 0;
+}
+
+ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
+  Outcome outcome;
+  const std::size_t n = block.samples.size();
+  if (n == 0) {
+    counters_.rejected_other++;
+    return {BlockVerdict::kEmpty, false, "empty block"};
+  }
+  if (!SameRate(block.sample_rate_hz, settings_.sample_rate_hz)) {
+    counters_.rejected_rate++;
+    return {BlockVerdict::kRateMismatch, false,
+            "sample rate " + std::to_string(block.sample_rate_hz) +
+                " Hz differs from the configured " + std::to_string(settings_.sample_rate_hz) +
+                " Hz"};
+  }
+  for (std::size_t i = 0; i < n; ++i) {
+    if (!std::isfinite(block.samples[i])) {
+      counters_.rejected_non_finite++;
+      return {BlockVerdict::kNonFiniteSamples, false,
+              "non-finite sample at index " + std::to_string(i) + " of " + std::to_string(n)};
+    }
+  }
+  if (block.in_volts && !settings_.sensitivity) {
+    counters_.rejected_other++;
+    return {BlockVerdict::kNotScalable, false,
+            "block in volts but the point has no sensitivity configured"};
+  }
+
+  // Gap-free continuation, or a restart of the segmenting.
+  if (!in_run_) {
+    Restart(block);
+  } else if (block.has_sequence && block.sequence != last_sequence_ + 1) {
+    counters_.sequence_gaps++;
+    outcome.restarted = true;
+    outcome.message = "sequence gap: expected " + std::to_string(last_sequence_ + 1) + ", got " +
+                      std::to_string(block.sequence);
+    Restart(block);
+  } else {
+    const std::int64_t expected = TimeOfRunSample(run_samples_);
+    const std::int64_t jump = block.first_sample_ns - expected;
+    if (jump > settings_.time_jump_tolerance_ns || -jump > settings_.time_jump_tolerance_ns) {
+      counters_.time_jumps++;
+      outcome.restarted = true;
+      outcome.message = "time jump of " + std::to_string(jump) + " ns";
+      Restart(block);
+    }
+  }
+  last_sequence_ = block.sequence;
+
+  scaled_.resize(n);
+  if (block.in_volts) {
+    for (std::size_t i = 0; i < n; ++i)
+      scaled_[i] = settings_.sensitivity->VoltsToUnits(block.samples[i]);
+  } else {
+    std::copy(block.samples.begin(), block.samples.end(), scaled_.begin());
+  }
+
+  const estimators::StreamingWelch::AverageCallback on_average =
+      [this](const estimators::AveragedSpectrum& spectrum) { completed_ = spectrum; };
+  std::size_t pos = 0;
+  while (pos < n) {
+    if (!interval_open_) {
+      interval_start_ns_ = TimeOfRunSample(run_samples_);
+      interval_open_ = true;
+    }
+    const std::size_t take = std::min(n - pos, SamplesUntilAverageCompletes());
+    std::span<const double> piece(scaled_.data() + pos, take);
+    const std::size_t segments_before = welch_.segments_total();
+    welch_.Push(piece, on_average).IgnoreError();  // finite already checked above
+    counters_.segments += welch_.segments_total() - segments_before;
+    indicators_.Add(piece);
+    run_samples_ += take;
+    pos += take;
+    if (completed_) {
+      Emit(std::move(*completed_), TimeOfRunSample(run_samples_));
+      completed_.reset();
+    }
+  }
+  counters_.blocks++;
+  counters_.samples += n;
+  return outcome;
+}
+
+void ChannelPipeline::Flush() {
+  if (welch_.segments_in_average() == 0) return;
+  Emit(welch_.TakeAverage(), TimeOfRunSample(run_samples_));
+}
+
+void ChannelPipeline::Emit(estimators::AveragedSpectrum spectrum, std::int64_t end_ns) {
+  storage::MeasurementRecord record;
+  record.point_id = settings_.point_id;
+  record.interval_start_ns = interval_start_ns_;
+  record.interval_end_ns = end_ns;
+  record.segment_count = spectrum.segment_count;
+  record.sample_unit = std::string(estimators::ToString(settings_.sample_unit));
+  record.indicators = indicators_.Current();
+  record.bands.reserve(settings_.bands.size());
+  for (const auto& band : settings_.bands) {
+    storage::BandReading reading;
+    reading.name = band.name;
+    reading.unit = std::string(estimators::ToString(band.unit));
+    reading.lo_hz = band.lo_hz;
+    reading.hi_hz = band.hi_hz;
+    auto value = estimators::IntegrateBand(spectrum, band, settings_.sample_unit);
+    reading.rms = value.ok() ? value->rms : std::numeric_limits<double>::quiet_NaN();
+    record.bands.push_back(std::move(reading));
+  }
+  record.spectrum = std::move(spectrum);
+  indicators_.Reset();
+  interval_open_ = false;
+  counters_.records++;
+  if (sink_) sink_->Consume(record);
+}
+
+}  // namespace spinward::daemon
