@@ -16,6 +16,7 @@ struct CommandEntry {
 
 constexpr CommandEntry kCommands[] = {
     {"analyze", CommandAnalyze, "compute a Welch PSD and band values from a recording (WAV, CSV, raw)"},
+    {"check-config", CommandCheckConfig, "check a site file: list its problems or summarise it"},
     {"demo", CommandDemo, "run the built-in demonstration (an invented booster pump station)"},
     {"feed", CommandFeed, "act as an acquisition box: stream frames to a daemon over TCP or UDP"},
     {"replay", CommandReplay, "process a recording through a point's pipeline as if it streamed in"},

@@ -9,6 +9,7 @@ namespace spinward::daemon {
 using Arguments = std::vector<std::string>;
 
 int CommandAnalyze(const Arguments& args);
+int CommandCheckConfig(const Arguments& args);
 int CommandDemo(const Arguments& args);
 int CommandFeed(const Arguments& args);
 int CommandReplay(const Arguments& args);
