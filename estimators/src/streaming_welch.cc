@@ -19,8 +19,10 @@
 #include "spinward/estimators/streaming_welch.h"
 
 #include <algorithm>
+#include <bit>
 #include <cmath>
 #include <complex>
+#include <cstdint>
 #include <cstring>
 #include <limits>
 #include <string>
@@ -56,6 +58,41 @@ void ForEachSample(std::span<const double> a, std::span<const double> b, F&& f) 
   std::size_t n = 0;
   for (double x : a) f(n++, x);
   for (double x : b) f(n++, x);
+}
+
+// The sum of the samples of a then b. One running sum is a chain of dependent adds (a few cycles
+// each, and the compiler may not reorder floating-point adds), which cost more than the rest of the
+// detrend and window together; kSumLanes partial sums, sample n going to lane n % kSumLanes, run in
+// parallel and vectorize. Each lane adds its samples in index order whatever the split between a
+// and b, so a segment's sum, and so the streaming result, is bit-identical for any block
+// boundaries.
+constexpr std::size_t kSumLanes = 8;
+double SegmentSum(std::span<const double> a, std::span<const double> b) {
+  double lane[kSumLanes] = {};
+  std::size_t n = 0;  // segment index of the part's first sample
+  for (std::span<const double> part : {a, b}) {
+    const double* p = part.data();
+    const std::size_t count = part.size();
+    std::size_t i = 0;
+    for (; i < count && (n + i) % kSumLanes != 0; ++i) lane[(n + i) % kSumLanes] += p[i];
+    for (; i + kSumLanes <= count; i += kSumLanes) {
+      for (std::size_t j = 0; j < kSumLanes; ++j) lane[j] += p[i + j];
+    }
+    for (; i < count; ++i) lane[(n + i) % kSumLanes] += p[i];
+    n += count;
+  }
+  return ((lane[0] + lane[1]) + (lane[2] + lane[3])) + ((lane[4] + lane[5]) + (lane[6] + lane[7]));
+}
+
+// True when no sample is NaN or Inf, i.e. none has an all-ones exponent. Adding 2^52 to the masked
+// exponent carries into the sign bit exactly when the exponent is all ones; the OR of those sums is
+// an integer reduction the compiler vectorizes, where a std::isfinite counting loop stays scalar.
+bool AllFinite(std::span<const double> samples) {
+  constexpr std::uint64_t kExponent = 0x7ff0000000000000;
+  constexpr std::uint64_t kExponentOne = 0x0010000000000000;
+  std::uint64_t carries = 0;
+  for (double x : samples) carries |= (std::bit_cast<std::uint64_t>(x) & kExponent) + kExponentOne;
+  return (carries >> 63) == 0;
 }
 
 }  // namespace
@@ -193,9 +230,7 @@ struct StreamingWelch::State {
         ForEachSample(a, b, [&](std::size_t n, double x) { in[n] = x * w[n]; });
         break;
       case Detrend::kMean: {
-        double sum = 0.0;
-        ForEachSample(a, b, [&](std::size_t, double x) { sum += x; });
-        const double mean = sum / static_cast<double>(segment_length);
+        const double mean = SegmentSum(a, b) / static_cast<double>(segment_length);
         ForEachSample(a, b, [&](std::size_t n, double x) { in[n] = (x - mean) * w[n]; });
         break;
       }
@@ -227,49 +262,62 @@ struct StreamingWelch::State {
     Accumulate(out);
   }
 
-  void Accumulate(const std::complex<double>* out) {
-    const bool one_sided = options.sides == Sides::kOneSided;
-    const std::size_t last_doubled =
-        fft_length % 2 == 0 ? fft_length / 2 - 1 : (fft_length - 1) / 2;
-    auto power = [&](std::size_t m) {
-      const double re = out[m].real();
-      const double im = out[m].imag();
-      double p = (re * re + im * im) * scale;
-      if (one_sided && m >= 1 && m <= last_doubled) p *= 2.0;
-      return p;
+  // Calls f(m, p) with bin m's scaled one- or two-sided power. One plain loop per run of bins (DC,
+  // the doubled bins, the rest) instead of a test per bin, so the loops vectorize. |X|^2 x scale
+  // and then x 2 (or x 1), as SciPy orders it.
+  template <typename F>
+  void ForEachPower(const std::complex<double>* out, F&& f) const {
+    // std::complex<double> is an array of two doubles, re then im ([complex.numbers]/4).
+    const double* z = reinterpret_cast<const double*>(out);
+    const double s = scale;
+    auto run = [&](std::size_t begin, std::size_t end, double factor) {
+      for (std::size_t m = begin; m < end; ++m) {
+        const double re = z[2 * m];
+        const double im = z[2 * m + 1];
+        f(m, (re * re + im * im) * s * factor);
+      }
     };
+    // Bins with a mirror image at negative frequency: 1..M/2-1 for even M, 1..(M-1)/2 for odd.
+    const std::size_t doubled_end = options.sides == Sides::kTwoSided ? 1
+                                    : fft_length % 2 == 0             ? fft_length / 2
+                                                                      : (fft_length + 1) / 2;
+    run(0, 1, 1.0);
+    run(1, doubled_end, 2.0);
+    run(doubled_end, fft_bins, 1.0);
+  }
+
+  void Accumulate(const std::complex<double>* out) {
+    double* acc = accumulator.data();
     switch (options.averaging) {
       case Averaging::kMean:
         if (in_average == 0) {
-          for (std::size_t m = 0; m < fft_bins; ++m) accumulator[m] = power(m);
+          ForEachPower(out, [acc](std::size_t m, double p) { acc[m] = p; });
         } else {
-          for (std::size_t m = 0; m < fft_bins; ++m) accumulator[m] += power(m);
+          ForEachPower(out, [acc](std::size_t m, double p) { acc[m] += p; });
         }
         break;
       case Averaging::kMedian: {
         // With segments_per_average == 0 the store grows: the header documents this allocation.
         const std::size_t offset = in_average * fft_bins;
         if (median_store.size() < offset + fft_bins) median_store.resize(offset + fft_bins);
-        for (std::size_t m = 0; m < fft_bins; ++m) median_store[offset + m] = power(m);
+        double* row = median_store.data() + offset;
+        ForEachPower(out, [row](std::size_t m, double p) { row[m] = p; });
         break;
       }
       case Averaging::kExponential:
         if (exponential_count == 0) {
-          for (std::size_t m = 0; m < fft_bins; ++m) accumulator[m] = power(m);
+          ForEachPower(out, [acc](std::size_t m, double p) { acc[m] = p; });
         } else {
-          for (std::size_t m = 0; m < fft_bins; ++m) {
-            accumulator[m] += exponential_weight * (power(m) - accumulator[m]);
-          }
+          const double a = exponential_weight;
+          ForEachPower(out, [acc, a](std::size_t m, double p) { acc[m] += a * (p - acc[m]); });
         }
         ++exponential_count;
         break;
       case Averaging::kPeakHold:
         if (in_average == 0) {
-          for (std::size_t m = 0; m < fft_bins; ++m) accumulator[m] = power(m);
+          ForEachPower(out, [acc](std::size_t m, double p) { acc[m] = p; });
         } else {
-          for (std::size_t m = 0; m < fft_bins; ++m) {
-            accumulator[m] = std::max(accumulator[m], power(m));
-          }
+          ForEachPower(out, [acc](std::size_t m, double p) { acc[m] = std::max(acc[m], p); });
         }
         break;
     }
@@ -406,15 +454,15 @@ StreamingWelch::~StreamingWelch() = default;
 
 Status StreamingWelch::Push(std::span<const double> samples, const AverageCallback& on_average) {
   State& s = *state_;
-  std::size_t bad = 0;
-  std::size_t first_bad = 0;
-  for (std::size_t i = 0; i < samples.size(); ++i) {
-    if (!std::isfinite(samples[i])) {
-      if (bad == 0) first_bad = i;
-      ++bad;
+  if (!AllFinite(samples)) {
+    std::size_t bad = 0;
+    std::size_t first_bad = 0;
+    for (std::size_t i = 0; i < samples.size(); ++i) {
+      if (!std::isfinite(samples[i])) {
+        if (bad == 0) first_bad = i;
+        ++bad;
+      }
     }
-  }
-  if (bad > 0) {
     // The block is a hole in the stream: the partial segment before it must not be joined to
     // the samples after it.
     ++s.rejected_blocks;
