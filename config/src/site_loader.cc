@@ -1,6 +1,7 @@
 #include "spinward/config/site_loader.h"
 
 #include <arpa/inet.h>
+#include <yaml-cpp/depthguard.h>
 #include <yaml-cpp/yaml.h>
 
 #include <array>
@@ -89,6 +90,10 @@ class SiteLoader {
     YAML::Node root;
     try {
       root = YAML::Load(std::string(text));
+    } catch (const YAML::DeepRecursion& error) {
+      // yaml-cpp's own message for this one is unhelpful ("bad file").
+      problems_.Add(error.mark, "", "YAML syntax error: nesting too deep");
+      return Finish();
     } catch (const YAML::Exception& error) {
       problems_.Add(error.mark, "", "YAML syntax error: " + error.msg);
       return Finish();
@@ -531,13 +536,17 @@ class SiteLoader {
           if (entry.Has(key)) entry.Report(key, "applies to tcp listeners only");
         }
       }
-      if (entry.ReadStringList("allowed_peers", listener.allowed_peers, Need::kOptional)) {
+      std::vector<std::string> peers_read;
+      bool peers_ok = entry.ReadStringList("allowed_peers", peers_read, Need::kOptional);
+      if (peers_ok) listener.allowed_peers = peers_read;
+      if (!peers_read.empty()) {
         const YAML::Node& peers = *entry.Find("allowed_peers");
-        for (std::size_t p = 0; p < listener.allowed_peers.size(); ++p) {
-          if (!IsNumericAddress(listener.allowed_peers[p])) {
-            problems_.Add(peers[p].Mark(), entry.KeyPath(Indexed("allowed_peers", p)),
-                          "address " + QuoteValue(listener.allowed_peers[p]) +
-                              " is not a numeric IPv4 or IPv6 address");
+        for (std::size_t p = 0; p < peers_read.size(); ++p) {
+          // An empty entry was not text; that is reported already.
+          if (!peers_read[p].empty() && !IsNumericAddress(peers_read[p])) {
+            problems_.Add(
+                peers[p].Mark(), entry.KeyPath(Indexed("allowed_peers", p)),
+                "address " + QuoteValue(peers_read[p]) + " is not a numeric IPv4 or IPv6 address");
           }
         }
       }

@@ -216,15 +216,17 @@ bool MapReader::ReadStringList(std::string_view key, std::vector<std::string>& o
     std::string item_path = KeyPath(key) + "[" + std::to_string(i) + "]";
     if (!item.IsScalar() || item.Scalar().empty()) {
       problems_.Add(item.Mark(), item_path,
-                    "expected a text value, got " + std::string(DescribeNodeType(item)));
+                    item.IsScalar()
+                        ? std::string("must not be empty")
+                        : "expected a text value, got " + std::string(DescribeNodeType(item)));
       all_good = false;
+      items.emplace_back();  // keeps the indices of the good items
       continue;
     }
     items.push_back(item.Scalar());
   }
-  if (!all_good) return false;
   out = std::move(items);
-  return true;
+  return all_good;
 }
 
 std::vector<YAML::Node> MapReader::ReadList(std::string_view key, Need need) {

@@ -69,7 +69,8 @@ class MapReader {
   bool ReadCount(std::string_view key, std::size_t& out, Need need);
   // A whole number that fits in long long.
   bool ReadInteger(std::string_view key, long long& out, Need need);
-  // A list of text values.
+  // A list of text values. When some items are not text, returns false with `out` holding an empty
+  // text in their place, so the good ones can still be checked.
   bool ReadStringList(std::string_view key, std::vector<std::string>& out, Need need);
   // The elements of a list value (empty, with a problem, when it is not a list).
   std::vector<YAML::Node> ReadList(std::string_view key, Need need);

@@ -1,8 +1,7 @@
-// Each file in tests/data/config/broken/ holds one mistake (a few hold a second one that follows
-// from it). The table says where an editor shows the mistake (line and column counted by hand from
-// the file, 1-based, columns counting a tab as one), which key it is reported against and a part of
-// the problem text. The files differ from one valid base site in one or two lines; the base is the
-// first 16 lines of most of them.
+// Each file in tests/data/config/broken/ is one small valid site with one mistake put in (a few get
+// a second problem that follows from the first). The table says where an editor shows the mistake
+// (line and column counted by hand from the file, 1-based, a tab counting as one column), the key
+// it is reported against and a part of the problem text.
 #include <gtest/gtest.h>
 
 #include <filesystem>
@@ -74,6 +73,8 @@ const BrokenCase kBrokenCases[] = {
     {"port_out_of_range.yaml", 16, 23, "listeners[0].port", "port 70000 is out of range", 1},
     // 300 is not an octet.
     {"bad_address.yaml", 16, 26, "listeners[0].address", "not a numeric IPv4 or IPv6 address", 1},
+    // Peers are matched by address; host names are not resolved.
+    {"bad_peer.yaml", 16, 56, "listeners[0].allowed_peers[1]", "'localhost' is not a numeric", 1},
     // ISO 10816-3 has machine groups 1 and 2 only.
     {"iso_group_3.yaml", 4, 57, "machines[0].iso_group", "must be 1 or 2", 1},
     {"time_constant_without_exponential.yaml", 6, 52, "profiles[0].time_constant_s",

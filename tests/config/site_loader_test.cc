@@ -211,5 +211,13 @@ listeners:
   EXPECT_EQ(loaded.problems[0].file, "inline.yaml");
 }
 
+TEST(SiteLoader, DeepNestingIsASyntaxErrorNotACrash) {
+  // yaml-cpp guards its recursive parser with a depth limit (500 levels); 5000 is far past it.
+  LoadedSite loaded = ParseSiteText(std::string(5000, '['), "deep.yaml");
+  ASSERT_EQ(loaded.problems.size(), 1u) << AllProblems(loaded);
+  EXPECT_NE(loaded.problems[0].problem.find("nesting too deep"), std::string::npos)
+      << AllProblems(loaded);
+}
+
 }  // namespace
 }  // namespace spinward::config
