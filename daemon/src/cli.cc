@@ -15,12 +15,16 @@ struct CommandEntry {
 };
 
 constexpr CommandEntry kCommands[] = {
+    {"ack", CommandAck, "acknowledge a point's active or latched alarms"},
+    {"alarms", CommandAlarms, "list alarm events from the trend database (CSV or JSON)"},
     {"analyze", CommandAnalyze, "compute a Welch PSD and band values from a recording (WAV, CSV, raw)"},
     {"check-config", CommandCheckConfig, "check a site file: list its problems or summarise it"},
     {"demo", CommandDemo, "run the built-in demonstration (an invented booster pump station)"},
     {"feed", CommandFeed, "act as an acquisition box: stream frames to a daemon over TCP or UDP"},
     {"replay", CommandReplay, "process a recording through a point's pipeline as if it streamed in"},
     {"run", CommandRun, "run the daemon in the foreground with a site configuration"},
+    {"status", CommandStatus, "latest value and alarm state of every point (trend database)"},
+    {"trend", CommandTrend, "print a measure's trend (raw, hourly, daily) from the trend database"},
 };
 
 void PrintUsage(std::FILE* out) {

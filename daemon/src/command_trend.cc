@@ -1,0 +1,103 @@
+// `spinward trend --db FILE --point P --band B [--since T] [--until T] [--level L] [--format F]`:
+// one measure's trend from the database, raw intervals or hourly/daily roll-ups. Reads through its
+// own read-only connection, so it runs while the daemon writes.
+#include <cstdio>
+#include <string>
+#include <string_view>
+
+#include "commands.h"
+#include "spinward/storage/query_report.h"
+#include "spinward/storage/time_text.h"
+#include "spinward/storage/trend_store.h"
+
+namespace spinward::daemon {
+namespace {
+
+constexpr std::string_view kUsage = R"(usage: spinward trend --db FILE --point P --band B [options]
+
+Prints one measure's trend: raw interval values, or hourly or daily roll-ups (mean, min, max and
+count of the intervals; intervals flagged as sensor faults are counted apart, not averaged).
+
+  --db FILE      the trend database the daemon writes
+  --point P      measurement point, e.g. P-101
+  --band B       band or indicator name, e.g. velocity_rms_10_1000 or overall_rms
+  --since T      from this time: ISO 8601 UTC (2026-03-02T10:00Z, 2026-03-02) or relative to now
+                 (24h, 7d, 2w); default 24h
+  --until T      up to (not including) this time; default now
+  --level L      raw (default), hourly or daily
+  --format F     csv (default) or json
+  --help         this text
+
+Exit status: 0 on success, 2 for a bad option, 1 when the database cannot be read.
+)";
+
+}  // namespace
+
+int CommandTrend(const Arguments& args) {
+  std::string db, point, band, since = "24h", until = "now", level = "raw", format = "csv";
+  for (std::size_t i = 0; i < args.size(); ++i) {
+    const std::string& a = args[i];
+    if (a == "--help" || a == "-h") {
+      std::fputs(kUsage.data(), stdout);
+      return 0;
+    }
+    std::string* target = a == "--db"       ? &db
+                          : a == "--point"  ? &point
+                          : a == "--band"   ? &band
+                          : a == "--since"  ? &since
+                          : a == "--until"  ? &until
+                          : a == "--level"  ? &level
+                          : a == "--format" ? &format
+                                            : nullptr;
+    if (target == nullptr) {
+      std::fprintf(stderr, "spinward trend: unknown option '%s' (spinward trend --help)\n",
+                   a.c_str());
+      return 2;
+    }
+    if (i + 1 >= args.size()) {
+      std::fprintf(stderr, "spinward trend: option %s needs a value\n", a.c_str());
+      return 2;
+    }
+    *target = args[++i];
+  }
+  for (auto [name, value] :
+       {std::pair{"--db", &db}, std::pair{"--point", &point}, std::pair{"--band", &band}}) {
+    if (value->empty()) {
+      std::fprintf(stderr, "spinward trend: %s is required (spinward trend --help)\n", name);
+      return 2;
+    }
+  }
+  const std::int64_t now = storage::WallClockNowNs();
+  auto since_ns = storage::ParseTimeArgument(since, now);
+  auto until_ns = storage::ParseTimeArgument(until, now);
+  auto level_value = storage::ParseTrendLevel(level);
+  auto format_value = storage::ParseReportFormat(format);
+  for (const Status& s :
+       {since_ns.status(), until_ns.status(), level_value.status(), format_value.status()}) {
+    if (!s.ok()) {
+      std::fprintf(stderr, "spinward trend: %s\n", s.message().c_str());
+      return 2;
+    }
+  }
+  auto store = storage::TrendStore::OpenReadOnly(db);
+  if (!store) {
+    std::fprintf(stderr, "spinward trend: %s\n", store.message().c_str());
+    return 1;
+  }
+  storage::TrendQuery query{point, band, *since_ns, *until_ns, *level_value};
+  auto rows = store->Trend(query);
+  if (!rows) {
+    std::fprintf(stderr, "spinward trend: %s\n", rows.message().c_str());
+    return 1;
+  }
+  std::string unit;
+  if (auto status = store->CurrentStatus(); status.ok()) {
+    for (const auto& m : *status) {
+      if (m.point_id == point && m.measure == band) unit = m.unit;
+    }
+  }
+  std::fputs(storage::RenderTrend(query, unit, *rows, *format_value).c_str(), stdout);
+  return 0;
+}
+
+}  // namespace spinward::daemon
