@@ -69,6 +69,9 @@ bool Same(const DropDirectoryConfig& a, const DropDirectoryConfig& b) {
   return true;
 }
 
+// Only the path so far; retention and roll-up keys join here when StorageConfig grows.
+bool Same(const StorageConfig& a, const StorageConfig& b) { return a.path == b.path; }
+
 template <typename Entry>
 bool SameList(const std::vector<Entry>& a, const std::vector<Entry>& b) {
   if (a.size() != b.size()) return false;
@@ -102,7 +105,7 @@ SiteDiff DiffSites(const SiteConfig& before, const SiteConfig& after) {
   diff.drop_directory_changed =
       before.drop_directory.has_value() != after.drop_directory.has_value() ||
       (before.drop_directory && !Same(*before.drop_directory, *after.drop_directory));
-  diff.storage_changed = before.storage.path != after.storage.path;
+  diff.storage_changed = !Same(before.storage, after.storage);
   diff.logging_changed =
       before.logging.level != after.logging.level || before.logging.file != after.logging.file;
   return diff;
