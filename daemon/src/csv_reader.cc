@@ -250,6 +250,7 @@ Result<Recording> ParseCsv(std::string_view text, std::string_view source_name,
         "no time column and no sample rate; give the rate (--rate HZ) or a 'time_s' column");
   }
 
+  recording.name = std::string(source_name);
   recording.source = std::string(source_name) + ": CSV column " + column_label(value_cell) + ", " +
                      std::to_string(data_cells.size()) + " data column" +
                      (data_cells.size() == 1 ? "" : "s") + ", " + Hz(recording.sample_rate_hz) +

@@ -59,6 +59,7 @@ Result<Recording> ParseRaw(std::string_view bytes, std::string_view source_name,
   }
   char rate[64];
   std::snprintf(rate, sizeof rate, "%.10g Hz", recording.sample_rate_hz);
+  recording.name = std::string(source_name);
   recording.source = std::string(source_name) + ": raw little-endian " + name + ", " +
                      std::to_string(channels) + (channels == 1 ? " channel" : " channels") +
                      ", channel " + std::to_string(options.channel) + ", " + rate + ", " +

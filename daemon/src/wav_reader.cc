@@ -219,6 +219,7 @@ Result<Recording> ParseWav(std::string_view bytes, std::string_view source_name,
     recording.samples[i] = value;
   }
 
+  recording.name = std::string(source_name);
   recording.source = std::string(source_name) + ": " + Describe(*fmt) + ", " +
                      std::to_string(fmt->channels) +
                      (fmt->channels == 1 ? " channel" : " channels") + ", channel " +

@@ -70,6 +70,7 @@ TEST_P(WavEncodings, SamplesMatchScipy) {
     EXPECT_EQ(recording->sample_rate_hz, 25600.0);
     EXPECT_EQ(recording->channel_count, 2u);
     EXPECT_EQ(recording->channel, channel);
+    EXPECT_EQ(recording->name, path.string());
     ASSERT_EQ(recording->samples.size(), ref.frames.size());
     for (std::size_t i = 0; i < ref.frames.size(); ++i) {
       ASSERT_EQ(recording->samples[i], ref.frames[i][channel]) << "frame " << i;

@@ -17,6 +17,8 @@ C++ tests can compare bit-for-bit or to a stated tolerance. Run with Debian's /u
   write-signal PATH RATE SECONDS SEED
       A test vibration signal (two sines, white noise): .wav as float32 via scipy.io.wavfile,
       .csv with a header "time_s,accel" (numpy), values with 17 significant digits.
+  write-sine PATH RATE SECONDS FREQUENCY AMPLITUDE
+      A pure sine, written as write-signal writes (float32 WAV, or CSV with a time column).
   welch PATH key=value ...
       scipy.signal.welch of a file written above; keys: rate, nperseg, noverlap, nfft, window
       (name or kaiser:BETA), detrend (none|constant|linear), scaling, sides (one|two),
@@ -126,8 +128,9 @@ def test_signal(rate, seconds, seed):
             0.05 * rng.normal(size=t.size) + 0.01)
 
 
-def write_signal(path, rate, seconds, seed):
-    x = test_signal(rate, seconds, seed)
+def write_signal(path, rate, seconds, seed, x=None):
+    if x is None:
+        x = test_signal(rate, seconds, seed)
     if path.endswith('.wav'):
         scipy.io.wavfile.write(path, rate, x.astype(np.float32))
     else:
@@ -175,6 +178,11 @@ def main():
     elif command == 'write-signal':
         path, rate, seconds, seed = rest
         write_signal(path, int(rate), float(seconds), int(seed))
+    elif command == 'write-sine':
+        path, rate, seconds, frequency, amplitude = rest
+        t = np.arange(int(round(float(rate) * float(seconds)))) / float(rate)
+        x = float(amplitude) * np.sin(2 * np.pi * float(frequency) * t)
+        write_signal(path, int(rate), float(seconds), 0, x)
     elif command == 'welch':
         welch(rest[0], rest[1:])
     else:

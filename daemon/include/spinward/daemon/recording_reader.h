@@ -34,6 +34,7 @@ struct Recording {
   double sample_rate_hz = 0.0;
   std::size_t channel_count = 0;  // channels (CSV: data columns) the file holds
   std::size_t channel = 0;        // the one that was read
+  std::string name;               // what messages call it: the path, or the name the caller gave
   std::string source;  // e.g. "pump.wav: WAV PCM 24-bit, 2 channels, channel 0, 25600 Hz"
 
   double DurationSeconds() const;
