@@ -6,6 +6,7 @@
 
 #include <algorithm>
 #include <cmath>
+#include <cstdio>
 #include <filesystem>
 #include <fstream>
 #include <sstream>
@@ -108,7 +109,9 @@ TEST_P(AnalyzeMatchesScipy, EveryBin) {
     worst = std::max(worst, error);
     ASSERT_LE(error, 1e-9) << "bin " << m << " ours " << ours.psd[m] << " scipy " << scipy.psd[m];
   }
-  RecordProperty("worst_relative_error", std::to_string(worst));
+  char measured[32];
+  std::snprintf(measured, sizeof measured, "%.3e", worst);
+  RecordProperty("worst_relative_error", measured);
 }
 
 INSTANTIATE_TEST_SUITE_P(
