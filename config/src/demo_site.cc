@@ -76,7 +76,17 @@ std::string DemoSiteYaml(const DemoSiteOptions& options) {
         // Rolling-element bearing defects ring in the kHz range.
         << "      - {name: bearing, lo_hz: 1000, hi_hz: 10000, quantity: acceleration, units: g}\n"
         // Below 10 Hz: looseness, foundation and flow effects, as displacement.
-        << "      - {name: low, lo_hz: 2, hi_hz: 10, quantity: displacement, units: um}\n";
+        << "      - {name: low, lo_hz: 2, hi_hz: 10, quantity: displacement, units: um}\n"
+        << "    alarms:\n"
+        // Alert and danger at the ISO 10816-3 zone boundaries B/C and C/D of the machine's class
+        // (group 2 rigid pumps 2.8 / 4.5 mm/s, the flexible fan 4.5 / 7.1 mm/s).
+        << "      - {measure: velocity, preset: iso10816-3, on_delay: \"2 of 3\", off_delay: 2, "
+           "latching: true}\n"
+        // Demo choice, no source: bearing-band limits for this invented station.
+        << "      - {measure: bearing, alert: 0.5, danger: 1.0, on_delay: \"2 of 3\"}\n"
+        // A 100 mV/g sensor into a +-5 V input clips at 5 V / 0.1 V/g = 50 g. The noise floor is a
+        // demo choice: above a general-purpose accelerometer's own noise (from memory).
+        << "    sensor_checks: {full_scale: 50, noise_floor_rms: 0.0005}\n";
   }
   out << "listeners:\n"
       << "  - {type: tcp, address: 127.0.0.1, port: " << options.tcp_port << "}\n"

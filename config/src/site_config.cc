@@ -2,6 +2,10 @@
 
 #include <algorithm>
 #include <array>
+#include <cctype>
+#include <charconv>
+#include <cmath>
+#include <sstream>
 #include <utility>
 
 namespace spinward::config {
@@ -33,6 +37,10 @@ constexpr Spellings<LogLevel, 5> kLogLevels{{{"trace", LogLevel::kTrace},
                                              {"info", LogLevel::kInfo},
                                              {"warn", LogLevel::kWarn},
                                              {"error", LogLevel::kError}}};
+
+constexpr Spellings<AlarmPreset, 1> kAlarmPresets{{{"iso10816-3", AlarmPreset::kIso10816_3}}};
+constexpr Spellings<Durability, 2> kDurabilities{
+    {{"full", Durability::kFull}, {"normal", Durability::kNormal}}};
 
 template <typename T, std::size_t N>
 Result<T> ParseSpelling(std::string_view text, const Spellings<T, N>& table,
@@ -85,12 +93,123 @@ Result<LogLevel> ParseLogLevel(std::string_view text) {
   return ParseSpelling(text, kLogLevels, "log level");
 }
 
+Result<AlarmPreset> ParseAlarmPreset(std::string_view text) {
+  return ParseSpelling(text, kAlarmPresets, "alarm preset");
+}
+Result<Durability> ParseDurability(std::string_view text) {
+  return ParseSpelling(text, kDurabilities, "durability");
+}
+
 std::string_view ToString(MachineKind value) { return Spell(value, kMachineKinds); }
 std::string_view ToString(MachineSupport value) { return Spell(value, kSupports); }
 std::string_view ToString(Direction value) { return Spell(value, kDirections); }
 std::string_view ToString(ListenerType value) { return Spell(value, kListenerTypes); }
 std::string_view ToString(FileFormat value) { return Spell(value, kFileFormats); }
 std::string_view ToString(LogLevel value) { return Spell(value, kLogLevels); }
+std::string_view ToString(AlarmPreset value) {
+  return value == AlarmPreset::kNone ? "none" : Spell(value, kAlarmPresets);
+}
+std::string_view ToString(Durability value) { return Spell(value, kDurabilities); }
+
+const OverallMeasure* FindOverallMeasure(std::string_view name) {
+  for (const auto& measure : kOverallMeasures) {
+    if (measure.name == name) return &measure;
+  }
+  return nullptr;
+}
+
+namespace {
+
+std::string_view Trim(std::string_view text) {
+  while (!text.empty() && std::isspace(static_cast<unsigned char>(text.front()))) {
+    text.remove_prefix(1);
+  }
+  while (!text.empty() && std::isspace(static_cast<unsigned char>(text.back()))) {
+    text.remove_suffix(1);
+  }
+  return text;
+}
+
+std::optional<long long> WholeNumber(std::string_view text) {
+  long long value = 0;
+  auto [end, error] = std::from_chars(text.data(), text.data() + text.size(), value);
+  if (text.empty() || error != std::errc() || end != text.data() + text.size()) return std::nullopt;
+  return value;
+}
+
+std::optional<double> FiniteNumber(std::string_view text) {
+  if (!text.empty() && text.front() == '+') text.remove_prefix(1);
+  double value = 0.0;
+  auto [end, error] = std::from_chars(text.data(), text.data() + text.size(), value);
+  if (text.empty() || error != std::errc() || end != text.data() + text.size() ||
+      !std::isfinite(value)) {
+    return std::nullopt;
+  }
+  return value;
+}
+
+std::string Number(double value) {
+  std::ostringstream out;
+  out << value;
+  return out.str();
+}
+
+}  // namespace
+
+Result<OnDelay> ParseOnDelay(std::string_view text) {
+  const std::string quoted = "'" + std::string(text) + "'";
+  const std::string_view trimmed = Trim(text);
+  std::optional<long long> n;
+  std::optional<long long> m;
+  if (auto of = trimmed.find(" of "); of != std::string_view::npos) {
+    n = WholeNumber(Trim(trimmed.substr(0, of)));
+    m = WholeNumber(Trim(trimmed.substr(of + 4)));
+  } else {
+    n = WholeNumber(trimmed);
+    m = n;
+  }
+  if (!n || !m) {
+    return Error{"on_delay " + quoted +
+                 " is not 'N of M' (N of the last M intervals, e.g. '2 of 3') or a whole number N"};
+  }
+  if (*n < 1) return Error{"on_delay " + quoted + ": N must be at least 1"};
+  if (*n > *m) {
+    return Error{"on_delay " + quoted + ": N (" + std::to_string(*n) + ") must not exceed M (" +
+                 std::to_string(*m) + ")"};
+  }
+  if (*m > kMaxOnDelayWindow) {
+    return Error{"on_delay " + quoted + ": M must be at most " + std::to_string(kMaxOnDelayWindow) +
+                 " intervals"};
+  }
+  return OnDelay{static_cast<int>(*n), static_cast<int>(*m)};
+}
+
+Result<Deadband> ParseDeadband(std::string_view text) {
+  const std::string quoted = "'" + std::string(text) + "'";
+  std::string_view trimmed = Trim(text);
+  Deadband deadband;
+  if (!trimmed.empty() && trimmed.back() == '%') {
+    deadband.kind = DeadbandKind::kPercent;
+    trimmed = Trim(trimmed.substr(0, trimmed.size() - 1));
+  } else {
+    deadband.kind = DeadbandKind::kAbsolute;
+  }
+  auto value = FiniteNumber(trimmed);
+  if (!value) {
+    return Error{
+        "deadband " + quoted +
+        " is not a percentage of the setpoint like '5%' or a number in the measure's unit"};
+  }
+  if (*value < 0.0) return Error{"deadband " + quoted + " must not be negative"};
+  // The alarm engine refuses 50 % or more: the reset level would sit at half the setpoint or
+  // lower, too far below it to mean "back to normal".
+  if (deadband.kind == DeadbandKind::kPercent && *value >= 50.0) {
+    return Error{"deadband " + quoted + " is too wide: a percentage must be below 50%, got " +
+                 Number(*value) + "%"};
+  }
+  deadband.value = *value;
+  return deadband;
+}
 
 std::optional<FileFormat> FileFormatFromName(std::string_view name) {
   auto dot = name.rfind('.');

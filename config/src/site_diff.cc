@@ -32,21 +32,24 @@ bool Same(const MachineConfig& a, const MachineConfig& b) {
          a.iso_group == b.iso_group && a.support == b.support;
 }
 
-bool SamePointKeys(const PointConfig& a, const PointConfig& b) {
-  if (a.bands.size() != b.bands.size()) return false;
-  for (std::size_t i = 0; i < a.bands.size(); ++i) {
-    if (!Same(a.bands[i], b.bands[i])) return false;
-  }
-  return a.machine == b.machine && a.location == b.location && a.direction == b.direction &&
-         a.sensor == b.sensor && Same(a.sensitivity, b.sensitivity) && a.unit == b.unit &&
-         a.sample_rate_hz == b.sample_rate_hz && a.profile == b.profile;
+bool Same(const AlarmLimitConfig& a, const AlarmLimitConfig& b) {
+  return a.measure == b.measure && a.alert == b.alert && a.danger == b.danger &&
+         a.low_alert == b.low_alert && a.low_danger == b.low_danger &&
+         a.deadband.kind == b.deadband.kind && a.deadband.value == b.deadband.value &&
+         a.on_delay.n == b.on_delay.n && a.on_delay.m == b.on_delay.m &&
+         a.off_delay == b.off_delay && a.latching == b.latching &&
+         a.stale_after_s == b.stale_after_s && a.preset == b.preset && a.baseline == b.baseline;
 }
 
-// Both referenced entries missing counts as the same; one missing as a change.
-template <typename Entry>
-bool SameReferenced(const Entry* a, const Entry* b) {
-  if (a == nullptr || b == nullptr) return a == b;
-  return Same(*a, *b);
+bool Same(const std::optional<ValueRange>& a, const std::optional<ValueRange>& b) {
+  if (a.has_value() != b.has_value()) return false;
+  return !a || (a->low == b->low && a->high == b->high);
+}
+
+bool Same(const SensorChecksConfig& a, const SensorChecksConfig& b) {
+  return a.full_scale == b.full_scale && a.clip_count == b.clip_count &&
+         a.noise_floor_rms == b.noise_floor_rms && a.identical_run == b.identical_run &&
+         Same(a.mean_window, b.mean_window) && a.max_sequence_gaps == b.max_sequence_gaps;
 }
 
 bool Same(const ListenerConfig& a, const ListenerConfig& b) {
@@ -60,6 +63,30 @@ bool Same(const DropFileConfig& a, const DropFileConfig& b) {
          a.sample_rate_hz == b.sample_rate_hz;
 }
 
+template <typename Entry>
+bool SameList(const std::vector<Entry>& a, const std::vector<Entry>& b) {
+  if (a.size() != b.size()) return false;
+  for (std::size_t i = 0; i < a.size(); ++i) {
+    if (!Same(a[i], b[i])) return false;
+  }
+  return true;
+}
+
+bool SamePointKeys(const PointConfig& a, const PointConfig& b) {
+  return a.machine == b.machine && a.location == b.location && a.direction == b.direction &&
+         a.sensor == b.sensor && Same(a.sensitivity, b.sensitivity) && a.unit == b.unit &&
+         a.sample_rate_hz == b.sample_rate_hz && a.profile == b.profile &&
+         SameList(a.bands, b.bands) && SameList(a.alarms, b.alarms) &&
+         Same(a.sensor_checks, b.sensor_checks);
+}
+
+// Both referenced entries missing counts as the same; one missing as a change.
+template <typename Entry>
+bool SameReferenced(const Entry* a, const Entry* b) {
+  if (a == nullptr || b == nullptr) return a == b;
+  return Same(*a, *b);
+}
+
 bool Same(const DropDirectoryConfig& a, const DropDirectoryConfig& b) {
   if (a.path != b.path || a.poll_interval_s != b.poll_interval_s) return false;
   if (a.files.size() != b.files.size()) return false;
@@ -69,16 +96,12 @@ bool Same(const DropDirectoryConfig& a, const DropDirectoryConfig& b) {
   return true;
 }
 
-// Only the path so far; retention and roll-up keys join here when StorageConfig grows.
-bool Same(const StorageConfig& a, const StorageConfig& b) { return a.path == b.path; }
-
-template <typename Entry>
-bool SameList(const std::vector<Entry>& a, const std::vector<Entry>& b) {
-  if (a.size() != b.size()) return false;
-  for (std::size_t i = 0; i < a.size(); ++i) {
-    if (!Same(a[i], b[i])) return false;
-  }
-  return true;
+bool Same(const StorageConfig& a, const StorageConfig& b) {
+  return a.path == b.path && a.retention.raw_days == b.retention.raw_days &&
+         a.retention.hourly_days == b.retention.hourly_days &&
+         a.retention.daily_days == b.retention.daily_days &&
+         a.retention.spectrum_days == b.retention.spectrum_days &&
+         a.spectrum_every_s == b.spectrum_every_s && a.durability == b.durability;
 }
 
 }  // namespace

@@ -10,6 +10,7 @@
 #include <cmath>
 #include <cstring>
 #include <fstream>
+#include <limits>
 #include <map>
 #include <sstream>
 #include <utility>
@@ -34,9 +35,9 @@ constexpr std::array<std::string_view, 6> kMachineKeys{"id",        "name",     
 constexpr std::array<std::string_view, 9> kProfileKeys{
     "id",      "segment",   "overlap",    "fft_length",     "window",
     "detrend", "averaging", "interval_s", "time_constant_s"};
-constexpr std::array<std::string_view, 10> kPointKeys{
-    "id",          "machine", "location",       "direction", "sensor",
-    "sensitivity", "units",   "sample_rate_hz", "profile",   "bands"};
+constexpr std::array<std::string_view, 12> kPointKeys{
+    "id",    "machine",        "location", "direction", "sensor", "sensitivity",
+    "units", "sample_rate_hz", "profile",  "bands",     "alarms", "sensor_checks"};
 constexpr std::array<std::string_view, 5> kBandKeys{"name", "lo_hz", "hi_hz", "quantity", "units"};
 constexpr std::array<std::string_view, 7> kListenerKeys{
     "type",           "address",         "port",         "max_connections",
@@ -44,7 +45,18 @@ constexpr std::array<std::string_view, 7> kListenerKeys{
 constexpr std::array<std::string_view, 3> kDropKeys{"path", "poll_interval_s", "files"};
 constexpr std::array<std::string_view, 4> kDropFileKeys{"pattern", "point", "format",
                                                         "sample_rate_hz"};
-constexpr std::array<std::string_view, 1> kStorageKeys{"path"};
+constexpr std::array<std::string_view, 12> kAlarmKeys{
+    "measure",  "alert",     "danger",   "low_alert",     "low_danger", "deadband",
+    "on_delay", "off_delay", "latching", "stale_after_s", "preset",     "baseline"};
+constexpr std::array<std::string_view, 6> kSensorCheckKeys{"full_scale",      "clip_count",
+                                                           "noise_floor_rms", "identical_run",
+                                                           "mean_window",     "max_sequence_gaps"};
+constexpr std::array<std::string_view, 4> kStorageKeys{"path", "retention", "spectrum_every_s",
+                                                       "durability"};
+constexpr std::array<std::string_view, 4> kRetentionKeys{"raw_days", "hourly_days", "daily_days",
+                                                         "spectrum_days"};
+// Seconds that still fit in int64 nanoseconds with room to spare (kMaxRetentionDays' bound).
+constexpr double kMaxSeconds = 86400.0 * kMaxRetentionDays;
 constexpr std::array<std::string_view, 2> kLoggingKeys{"level", "file"};
 
 std::string Indexed(std::string_view list, std::size_t index) {
@@ -132,10 +144,7 @@ class SiteLoader {
     ReadPoints(top);
     ReadListeners(top);
     ReadDropDirectory(top);
-    if (const YAML::Node* node = top.Find("storage")) {
-      MapReader storage(problems_, *node, "storage", kStorageKeys);
-      storage.ReadString("path", site_.storage.path, Need::kOptional);
-    }
+    ReadStorage(top);
     if (const YAML::Node* node = top.Find("logging")) {
       MapReader logging(problems_, *node, "logging", kLoggingKeys);
       logging.ReadParsed("level", site_.logging.level, Need::kOptional, ParseLogLevel);
@@ -345,6 +354,8 @@ class SiteLoader {
         }
       }
       ReadBands(entry, point, rate_ok);
+      ReadAlarms(entry, point);
+      ReadSensorChecks(entry, point);
       site_.points.push_back(std::move(point));
     }
   }
@@ -435,7 +446,13 @@ class SiteLoader {
       if (!entry.is_map()) continue;
       estimators::BandSpec band;
       if (entry.ReadString("name", band.name, Need::kRequired)) {
-        CheckUnique(seen_names, entry, "name", band.name, "band name");
+        if (FindOverallMeasure(band.name) != nullptr) {
+          // Alarms and trends name a measure by band name or indicator name: they must differ.
+          entry.Report("name", "band name " + QuoteValue(band.name) +
+                                   " is the name of an overall indicator; choose another");
+        } else {
+          CheckUnique(seen_names, entry, "name", band.name, "band name");
+        }
       }
       bool lo_ok = entry.ReadNumber("lo_hz", band.lo_hz, Need::kRequired);
       bool hi_ok = entry.ReadNumber("hi_hz", band.hi_hz, Need::kRequired);
@@ -494,6 +511,292 @@ class SiteLoader {
       }
       point.bands.push_back(std::move(band));
     }
+  }
+
+  // An optional number that must pass `check` (which returns the problem, or empty).
+  template <typename Check>
+  bool ReadCheckedNumber(MapReader& entry, std::string_view key, std::optional<double>& out,
+                         Check check) {
+    double value = 0.0;
+    if (!entry.ReadNumber(key, value, Need::kOptional)) return false;
+    if (std::string problem = check(value); !problem.empty()) {
+      entry.Report(key, std::move(problem));
+      return false;
+    }
+    out = value;
+    return true;
+  }
+
+  static std::string AnyNumber(double) { return {}; }
+
+  void ReadAlarms(MapReader& point_entry, PointConfig& point) {
+    std::vector<std::string> known;
+    for (const auto& band : point.bands) {
+      if (!band.name.empty()) known.push_back(band.name);
+    }
+    for (const auto& overall : kOverallMeasures) known.emplace_back(overall.name);
+    std::map<std::string, int, std::less<>> seen;
+    auto items = point_entry.ReadList("alarms", Need::kOptional);
+    for (std::size_t k = 0; k < items.size(); ++k) {
+      MapReader entry(problems_, items[k], point_entry.KeyPath(Indexed("alarms", k)), kAlarmKeys);
+      if (!entry.is_map()) continue;
+      AlarmLimitConfig alarm;
+      const estimators::BandSpec* band = nullptr;
+      const OverallMeasure* overall = nullptr;
+      if (entry.ReadString("measure", alarm.measure, Need::kRequired)) {
+        for (const auto& candidate : point.bands) {
+          if (candidate.name == alarm.measure) band = &candidate;
+        }
+        overall = FindOverallMeasure(alarm.measure);
+        if (band == nullptr && overall == nullptr) {
+          entry.Report("measure", UnknownMeasure(alarm.measure, known));
+        } else {
+          CheckUnique(seen, entry, "measure", alarm.measure, "alarm on measure");
+        }
+      }
+      bool preset_ok = entry.ReadParsed("preset", alarm.preset, Need::kOptional, ParseAlarmPreset);
+      bool limits_ok = ReadCheckedNumber(entry, "alert", alarm.alert, AnyNumber);
+      limits_ok = ReadCheckedNumber(entry, "danger", alarm.danger, AnyNumber) && limits_ok;
+      ReadCheckedNumber(entry, "low_alert", alarm.low_alert, AnyNumber);
+      ReadCheckedNumber(entry, "low_danger", alarm.low_danger, AnyNumber);
+      ReadCheckedNumber(entry, "baseline", alarm.baseline, [](double value) {
+        return value < 0.0 ? "must be 0 mm/s or more, got " + FormatNumber(value) : std::string();
+      });
+      ReadCheckedNumber(entry, "stale_after_s", alarm.stale_after_s, [](double value) {
+        if (value <= 0.0) return "must be above 0 seconds, got " + FormatNumber(value);
+        if (value > kMaxSeconds) {
+          return "must be at most " + FormatNumber(kMaxSeconds) + " seconds, got " +
+                 FormatNumber(value);
+        }
+        return std::string();
+      });
+
+      if (alarm.preset == AlarmPreset::kIso10816_3) {
+        CheckPreset(entry, point, band, overall);
+      } else if (preset_ok || !entry.Has("preset")) {
+        for (const char* key : {"alert", "danger"}) {
+          if (!entry.Has(key)) {
+            problems_.Add(entry.mark(), entry.KeyPath(key),
+                          "required key is missing: give alert and danger, or preset: "
+                          "iso10816-3 on a velocity band in mm/s");
+          }
+        }
+        if (entry.Has("baseline")) {
+          entry.Report("baseline",
+                       "applies only with preset: iso10816-3 (the standard's baseline rule)");
+        }
+        if (limits_ok && alarm.alert && alarm.danger && *alarm.alert >= *alarm.danger) {
+          entry.Report("danger", "danger " + FormatNumber(*alarm.danger) + " must be above alert " +
+                                     FormatNumber(*alarm.alert));
+          limits_ok = false;
+        }
+      }
+      bool lows_ok = true;
+      if (alarm.low_alert && alarm.low_danger && *alarm.low_danger >= *alarm.low_alert) {
+        entry.Report("low_danger", "low_danger " + FormatNumber(*alarm.low_danger) +
+                                       " must be below low_alert " +
+                                       FormatNumber(*alarm.low_alert));
+        lows_ok = false;
+      }
+      std::optional<double> lowest = alarm.low_alert ? alarm.low_alert : alarm.low_danger;
+      const char* low_key = alarm.low_alert ? "low_alert" : "low_danger";
+      if (lows_ok && lowest && alarm.alert && *lowest >= *alarm.alert) {
+        entry.Report(low_key, std::string(low_key) + " " + FormatNumber(*lowest) +
+                                  " must be below alert " + FormatNumber(*alarm.alert));
+        lows_ok = false;
+      }
+      bool deadband_ok =
+          entry.ReadParsed("deadband", alarm.deadband, Need::kOptional, ParseDeadband);
+      if ((deadband_ok || !entry.Has("deadband")) && limits_ok && lows_ok && lowest &&
+          alarm.alert) {
+        // The reset bands of the low and the high limits must not meet, or a value could hold
+        // both alarms at once.
+        double low_reset = *lowest + DeadbandWidth(alarm.deadband, *lowest);
+        double high_reset = *alarm.alert - DeadbandWidth(alarm.deadband, *alarm.alert);
+        if (low_reset >= high_reset) {
+          entry.Report(entry.Has("deadband") ? "deadband" : low_key,
+                       "the deadband makes the reset level of " + std::string(low_key) + " (" +
+                           FormatNumber(low_reset) + ") reach that of alert (" +
+                           FormatNumber(high_reset) + ")");
+        }
+      }
+      entry.ReadParsed("on_delay", alarm.on_delay, Need::kOptional, ParseOnDelay);
+      long long off_delay = alarm.off_delay;
+      if (entry.ReadInteger("off_delay", off_delay, Need::kOptional)) {
+        if (off_delay < 1 || off_delay > std::numeric_limits<int>::max()) {
+          entry.Report("off_delay", "must be at least 1 interval (1 clears at once), got " +
+                                        std::to_string(off_delay));
+        } else {
+          alarm.off_delay = static_cast<int>(off_delay);
+        }
+      }
+      entry.ReadBool("latching", alarm.latching, Need::kOptional);
+      point.alarms.push_back(std::move(alarm));
+    }
+  }
+
+  static double DeadbandWidth(const Deadband& deadband, double setpoint) {
+    return deadband.kind == DeadbandKind::kAbsolute ? deadband.value
+                                                    : std::fabs(setpoint) * deadband.value / 100.0;
+  }
+
+  static std::string UnknownMeasure(const std::string& measure,
+                                    const std::vector<std::string>& known) {
+    std::string problem = "unknown measure " + QuoteValue(measure);
+    if (auto nearest = NearestKey(measure, known)) problem += "; did you mean '" + *nearest + "'?";
+    problem += " (known: ";
+    for (std::size_t i = 0; i < known.size(); ++i) problem += (i ? ", " : "") + known[i];
+    return problem + ")";
+  }
+
+  // The ISO 10816-3 preset judges broad-band RMS velocity in mm/s and takes its limits from the
+  // machine's class: the limits may not be written as well.
+  void CheckPreset(MapReader& entry, const PointConfig& point, const estimators::BandSpec* band,
+                   const OverallMeasure* overall) {
+    for (const char* key : {"alert", "danger"}) {
+      if (entry.Has(key)) {
+        entry.Report(key, std::string(key) +
+                              " is set by preset 'iso10816-3' from the machine's ISO group and "
+                              "support; give either the preset or your own alert and danger");
+      }
+    }
+    const std::string kNeeds = "preset 'iso10816-3' judges a velocity band in mm/s; ";
+    if (overall != nullptr) {
+      entry.Report("preset", kNeeds + QuoteValue(overall->name) + " is an overall indicator" +
+                                 (overall->dimensionless
+                                      ? std::string(" (a ratio)")
+                                      : " in " + std::string(estimators::ToString(point.unit))));
+    } else if (band != nullptr && band->unit != estimators::Unit::kMillimetresPerSecond) {
+      estimators::Quantity quantity = estimators::QuantityOf(band->unit);
+      std::string unit(estimators::ToString(band->unit));
+      if (quantity != estimators::Quantity::kVelocity) {
+        entry.Report("preset", kNeeds + "band " + QuoteValue(band->name) + " measures " +
+                                   std::string(estimators::ToString(quantity)) + " in " + unit);
+      } else {
+        entry.Report("preset", kNeeds + "band " + QuoteValue(band->name) + " is in " + unit +
+                                   "; give the band units: mm/s");
+      }
+    }
+  }
+
+  void ReadSensorChecks(MapReader& point_entry, PointConfig& point) {
+    const YAML::Node* node = point_entry.Find("sensor_checks");
+    if (node == nullptr) return;
+    MapReader entry(problems_, *node, point_entry.KeyPath("sensor_checks"), kSensorCheckKeys);
+    if (!entry.is_map()) return;
+    SensorChecksConfig& checks = point.sensor_checks;
+    const std::string unit(estimators::ToString(point.unit));
+    ReadCheckedNumber(entry, "full_scale", checks.full_scale, [&](double value) {
+      return value <= 0.0 ? "must be above 0 " + unit + ", got " + FormatNumber(value)
+                          : std::string();
+    });
+    std::size_t clip_count = 0;
+    if (entry.ReadCount("clip_count", clip_count, Need::kOptional)) {
+      if (clip_count < 1) {
+        entry.Report("clip_count", "must be at least 1 sample, got 0");
+      } else if (!entry.Has("full_scale")) {
+        entry.Report("clip_count",
+                     "has no effect without full_scale (clipping is counted "
+                     "against the full scale)");
+      } else {
+        checks.clip_count = clip_count;
+      }
+    }
+    ReadCheckedNumber(entry, "noise_floor_rms", checks.noise_floor_rms, [&](double value) {
+      if (value < 0.0) return "must be 0 " + unit + " or more, got " + FormatNumber(value);
+      if (checks.full_scale && value >= *checks.full_scale) {
+        return "noise_floor_rms " + FormatNumber(value) + " must be below full_scale " +
+               FormatNumber(*checks.full_scale);
+      }
+      return std::string();
+    });
+    std::size_t run = 0;
+    if (entry.ReadCount("identical_run", run, Need::kOptional)) {
+      if (run < 2) {
+        entry.Report("identical_run", "must be at least 2 samples, got " + std::to_string(run));
+      } else {
+        checks.identical_run = run;
+      }
+    }
+    ReadMeanWindow(entry, checks);
+    entry.ReadCount("max_sequence_gaps", checks.max_sequence_gaps, Need::kOptional);
+  }
+
+  void ReadMeanWindow(MapReader& entry, SensorChecksConfig& checks) {
+    const YAML::Node* node = entry.Find("mean_window");
+    if (node == nullptr) return;
+    const std::string kExpected = "expected a list of two numbers [low, high], got ";
+    if (!node->IsSequence() || node->size() != 2) {
+      entry.Report(
+          "mean_window",
+          kExpected + (node->IsSequence() ? std::to_string(node->size()) + " items"
+                                          : std::string(internal::DescribeNodeType(*node))));
+      return;
+    }
+    double bounds[2] = {0.0, 0.0};
+    for (std::size_t i = 0; i < 2; ++i) {
+      const YAML::Node item = (*node)[i];
+      std::optional<double> value;
+      if (item.IsScalar()) value = internal::ParseFiniteNumber(item.Scalar());
+      if (!value) {
+        problems_.Add(item.Mark(), entry.KeyPath(Indexed("mean_window", i)),
+                      "expected a number, got " +
+                          (item.IsScalar() ? QuoteValue(item.Scalar())
+                                           : std::string(internal::DescribeNodeType(item))));
+        return;
+      }
+      bounds[i] = *value;
+    }
+    if (bounds[0] >= bounds[1]) {
+      entry.Report("mean_window", "low " + FormatNumber(bounds[0]) + " must be below high " +
+                                      FormatNumber(bounds[1]));
+      return;
+    }
+    checks.mean_window = ValueRange{bounds[0], bounds[1]};
+  }
+
+  void ReadStorage(MapReader& top) {
+    const YAML::Node* node = top.Find("storage");
+    if (node == nullptr) return;
+    MapReader storage(problems_, *node, "storage", kStorageKeys);
+    if (!storage.is_map()) return;
+    StorageConfig& config = site_.storage;
+    storage.ReadString("path", config.path, Need::kOptional);
+    if (const YAML::Node* retention_node = storage.Find("retention")) {
+      MapReader retention(problems_, *retention_node, "storage.retention", kRetentionKeys);
+      if (retention.is_map()) {
+        RetentionConfig& days = config.retention;
+        for (auto [key, out] :
+             {std::pair{"raw_days", &days.raw_days}, std::pair{"hourly_days", &days.hourly_days},
+              std::pair{"daily_days", &days.daily_days},
+              std::pair{"spectrum_days", &days.spectrum_days}}) {
+          long long value = 0;
+          if (!retention.ReadInteger(key, value, Need::kOptional)) continue;
+          if (value < 0) {
+            retention.Report(key,
+                             "must be 0 (keep forever) or more days, got " + std::to_string(value));
+          } else if (value > kMaxRetentionDays) {
+            retention.Report(key, "must be at most " + std::to_string(kMaxRetentionDays) +
+                                      " days (0 keeps forever), got " + std::to_string(value));
+          } else {
+            *out = static_cast<int>(value);
+          }
+        }
+      }
+    }
+    double spacing = 0.0;
+    if (storage.ReadNumber("spectrum_every_s", spacing, Need::kOptional)) {
+      if (spacing < 0.0) {
+        storage.Report("spectrum_every_s",
+                       "must be 0 (every interval) or more seconds, got " + FormatNumber(spacing));
+      } else if (spacing > kMaxSeconds) {
+        storage.Report("spectrum_every_s", "must be at most " + FormatNumber(kMaxSeconds) +
+                                               " seconds, got " + FormatNumber(spacing));
+      } else {
+        config.spectrum_every_s = spacing;
+      }
+    }
+    storage.ReadParsed("durability", config.durability, Need::kOptional, ParseDurability);
   }
 
   void ReadListeners(MapReader& top) {

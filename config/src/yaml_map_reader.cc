@@ -191,6 +191,23 @@ bool MapReader::ReadInteger(std::string_view key, long long& out, Need need) {
   return true;
 }
 
+bool MapReader::ReadBool(std::string_view key, bool& out, Need need) {
+  const YAML::Node* value = Present(key, need);
+  if (value == nullptr) return false;
+  auto text = Scalar(key, *value, "true or false");
+  if (!text) return false;
+  if (*text == "true" || *text == "True" || *text == "TRUE") {
+    out = true;
+    return true;
+  }
+  if (*text == "false" || *text == "False" || *text == "FALSE") {
+    out = false;
+    return true;
+  }
+  Report(key, "expected true or false, got " + QuoteValue(*text));
+  return false;
+}
+
 bool MapReader::ReadCount(std::string_view key, std::size_t& out, Need need) {
   long long number = 0;
   if (!ReadInteger(key, number, need)) return false;

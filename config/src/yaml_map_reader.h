@@ -65,6 +65,8 @@ class MapReader {
   bool ReadString(std::string_view key, std::string& out, Need need);
   // A finite number.
   bool ReadNumber(std::string_view key, double& out, Need need);
+  // true or false (also True/TRUE, False/FALSE); YAML 1.1's yes/no/on/off are refused.
+  bool ReadBool(std::string_view key, bool& out, Need need);
   // A whole number >= 0 that fits in size_t.
   bool ReadCount(std::string_view key, std::size_t& out, Need need);
   // A whole number that fits in long long.

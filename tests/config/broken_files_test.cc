@@ -80,6 +80,25 @@ const BrokenCase kBrokenCases[] = {
     {"time_constant_without_exponential.yaml", 6, 52, "profiles[0].time_constant_s",
      "applies to exponential averaging only", 1},
     {"bad_machine_kind.yaml", 4, 23, "machines[0].kind", "pmup", 1},
+    // A limit set names a band of its point or an overall indicator.
+    {"alarm_unknown_measure.yaml", 17, 19, "points[0].alarms[0].measure",
+     "unknown measure 'velocty'; did you mean 'velocity'? (known: velocity, bearing, overall_rms",
+     1},
+    // Alert must sit below danger (trade practice: alert warns before danger).
+    {"alarm_alert_not_below_danger.yaml", 17, 48, "points[0].alarms[0].danger",
+     "danger 0.5 must be above alert 1", 1},
+    // ISO 10816-3 zones are RMS velocity in mm/s; the bearing band is acceleration in g.
+    {"alarm_preset_not_velocity.yaml", 17, 36, "points[0].alarms[0].preset",
+     "band 'bearing' measures acceleration in g", 1},
+    {"alarm_preset_with_alert.yaml", 17, 56, "points[0].alarms[0].alert",
+     "alert is set by preset 'iso10816-3'", 1},
+    {"alarm_bad_on_delay.yaml", 17, 63, "points[0].alarms[0].on_delay",
+     "N (3) must not exceed M (2)", 1},
+    {"alarm_bad_deadband.yaml", 17, 63, "points[0].alarms[0].deadband", "'5 percent' is not", 1},
+    {"sensor_mean_window_reversed.yaml", 16, 50, "points[0].sensor_checks.mean_window",
+     "low 0.5 must be below high -0.5", 1},
+    {"storage_negative_retention.yaml", 20, 25, "storage.retention.raw_days",
+     "must be 0 (keep forever) or more days, got -5", 1},
 };
 
 std::string Describe(const LoadedSite& loaded) {

@@ -36,6 +36,46 @@ TEST(DemoSite, LoadsWithoutProblems) {
   }
 }
 
+TEST(DemoSite, EveryPointHasItsLimitsAndSensorChecks) {
+  LoadedSite loaded = ParseSiteText(DemoSiteYaml(), "demo");
+  ASSERT_TRUE(loaded.ok()) << Problems(loaded);
+  ASSERT_EQ(loaded.site.points.size(), 8u);
+  for (const auto& point : loaded.site.points) {
+    SCOPED_TRACE(point.id);
+    ASSERT_EQ(point.alarms.size(), 2u);
+    const AlarmLimitConfig& velocity = point.alarms[0];
+    EXPECT_EQ(velocity.measure, "velocity");
+    EXPECT_EQ(velocity.preset, AlarmPreset::kIso10816_3);  // limits from the machine's class
+    EXPECT_EQ(velocity.on_delay.n, 2);
+    EXPECT_EQ(velocity.on_delay.m, 3);
+    EXPECT_EQ(velocity.off_delay, 2);
+    EXPECT_TRUE(velocity.latching);
+    const AlarmLimitConfig& bearing = point.alarms[1];
+    EXPECT_EQ(bearing.measure, "bearing");
+    // Demo choice, no source.
+    EXPECT_EQ(bearing.alert, 0.5);
+    EXPECT_EQ(bearing.danger, 1.0);
+    EXPECT_EQ(bearing.on_delay.n, 2);
+    EXPECT_EQ(bearing.on_delay.m, 3);
+    EXPECT_FALSE(bearing.latching);
+
+    // The preset needs a velocity band in mm/s, the bearing limits a band in g.
+    ASSERT_GE(point.bands.size(), 2u);
+    EXPECT_EQ(point.bands[0].unit, estimators::Unit::kMillimetresPerSecond);
+    EXPECT_EQ(point.bands[1].unit, estimators::Unit::kG);
+
+    // Full scale of a 100 mV/g sensor on a +-5 V input: 5 V / 0.1 V/g = 50 g (arithmetic).
+    ASSERT_TRUE(point.sensitivity.has_value());
+    ASSERT_TRUE(point.sensor_checks.full_scale.has_value());
+    EXPECT_DOUBLE_EQ(*point.sensor_checks.full_scale, 5.0 / point.sensitivity->volts_per_unit);
+    EXPECT_EQ(point.sensor_checks.noise_floor_rms, 0.0005);  // demo choice
+  }
+  // The ISO class the preset reads: pumps group 2 rigid, the fan group 2 flexible.
+  EXPECT_EQ(loaded.site.FindMachine("P-101")->iso_group, 2);
+  EXPECT_EQ(loaded.site.FindMachine("P-101")->support, MachineSupport::kRigid);
+  EXPECT_EQ(loaded.site.FindMachine("F-201")->support, MachineSupport::kFlexible);
+}
+
 TEST(DemoSite, CallerChoosesPortsIntervalAndDropDirectory) {
   DemoSiteOptions options;
   options.tcp_port = 7411;

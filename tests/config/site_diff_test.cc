@@ -93,5 +93,40 @@ TEST(SiteDiff, BandChangeAndListenerChange) {
   EXPECT_FALSE(diff.storage_changed);
 }
 
+TEST(SiteDiff, AlarmSensorCheckAndStorageChanges) {
+  const std::string with_band =
+      "  - {id: DE, machine: P-101, sensor: S-DE, sample_rate_hz: 25600, profile: standard,\n"
+      "     bands: [{name: v, lo_hz: 10, hi_hz: 1000}]";
+  SiteConfig before = Load(Site("", "1480", with_band + "}\n" + kOther));
+  // A new limit set on DE: DE is rebuilt, P2 is not.
+  SiteConfig alarm =
+      Load(Site("", "1480",
+                with_band + ",\n     alarms: [{measure: v, alert: 2.8, danger: 4.5}]}\n" + kOther));
+  SiteDiff diff = DiffSites(before, alarm);
+  EXPECT_EQ(diff.changed, (Ids{"DE"}));
+  EXPECT_EQ(diff.unchanged, (Ids{"P2"}));
+  // Only the on-delay differs: still a change.
+  SiteConfig delayed = Load(Site(
+      "", "1480",
+      with_band + ",\n     alarms: [{measure: v, alert: 2.8, danger: 4.5, on_delay: 2 of 3}]}\n" +
+          kOther));
+  EXPECT_EQ(DiffSites(alarm, delayed).changed, (Ids{"DE"}));
+  // Sensor checks are part of the point too.
+  SiteConfig checked =
+      Load(Site("", "1480", with_band + ",\n     sensor_checks: {full_scale: 50}}\n" + kOther));
+  EXPECT_EQ(DiffSites(before, checked).changed, (Ids{"DE"}));
+
+  // Storage: retention and durability, not only the path.
+  SiteConfig retained =
+      Load(Site("", "1480", with_band + "}\n" + kOther) + "storage: {retention: {raw_days: 30}}\n");
+  SiteDiff storage = DiffSites(before, retained);
+  EXPECT_TRUE(storage.storage_changed);
+  EXPECT_TRUE(storage.changed.empty());
+  SiteConfig durable =
+      Load(Site("", "1480", with_band + "}\n" + kOther) + "storage: {durability: normal}\n");
+  EXPECT_TRUE(DiffSites(before, durable).storage_changed);
+  EXPECT_FALSE(DiffSites(durable, durable).storage_changed);
+}
+
 }  // namespace
 }  // namespace spinward::config

@@ -2,8 +2,10 @@
 // in place. A SiteConfig is a value: the loader (site_loader.h) fills and checks it, the daemon
 // keeps one per (re)load and hands copies to whoever needs them. The estimator settings are carried
 // in the estimators' own option types (WindowSpec, BandSpec, Unit, Sensitivity), so nothing is
-// converted twice. Keys and their meaning: docs/configuration.md. Thread-safety: plain values; safe
-// to copy between threads, not to mutate from two at once.
+// converted twice. Alarm limit sets, sensor checks and storage retention are plain structs of their
+// own: config/ does not depend on the daemon or storage, which map them onto their types
+// (daemon/src/site_judgement.h). Keys and their meaning: docs/configuration.md.
+// Thread-safety: plain values; safe to copy between threads, not to mutate from two at once.
 #pragma once
 
 #include <cstddef>
@@ -27,6 +29,9 @@ enum class Direction { kHorizontal, kVertical, kAxial };
 enum class ListenerType { kTcp, kUdp };
 enum class FileFormat { kWav, kCsv, kRawFloat32, kRawInt16, kFrames };
 enum class LogLevel { kTrace, kDebug, kInfo, kWarn, kError };
+enum class AlarmPreset { kNone, kIso10816_3 };
+enum class DeadbandKind { kPercent, kAbsolute };  // percent of each setpoint, or the measure's unit
+enum class Durability { kFull, kNormal };         // SQLite synchronous FULL or NORMAL
 
 // Each parser accepts the lower-case YAML spelling and names the accepted ones when it fails.
 Result<MachineKind> ParseMachineKind(
@@ -36,14 +41,49 @@ Result<Direction> ParseDirection(std::string_view text);            // horizonta
 Result<ListenerType> ParseListenerType(std::string_view text);      // tcp udp
 Result<FileFormat> ParseFileFormat(std::string_view text);  // wav csv raw_float32 raw_int16 frames
 Result<LogLevel> ParseLogLevel(std::string_view text);      // trace debug info warn error
+Result<AlarmPreset> ParseAlarmPreset(std::string_view text);  // iso10816-3
+Result<Durability> ParseDurability(std::string_view text);    // full normal
 std::string_view ToString(MachineKind value);
 std::string_view ToString(MachineSupport value);
 std::string_view ToString(Direction value);
 std::string_view ToString(ListenerType value);
 std::string_view ToString(FileFormat value);
 std::string_view ToString(LogLevel value);
+std::string_view ToString(AlarmPreset value);  // "none" for kNone
+std::string_view ToString(Durability value);
 // The format a file name's extension implies: .wav, .csv, .f32, .i16, .frames; none otherwise.
 std::optional<FileFormat> FileFormatFromName(std::string_view name);
+
+// The overall (time-domain) indicators a limit set may judge besides the point's bands, under the
+// names trend storage and the alarm stage use. dimensionless: crest factor and kurtosis are ratios;
+// the others are in the point's sample unit.
+struct OverallMeasure {
+  std::string_view name;
+  bool dimensionless;
+};
+inline constexpr OverallMeasure kOverallMeasures[] = {
+    {"overall_rms", false},         {"overall_peak", false},    {"overall_peak_to_peak", false},
+    {"overall_crest_factor", true}, {"overall_kurtosis", true}, {"overall_mean", false},
+};
+// Null when `name` is not an overall indicator.
+const OverallMeasure* FindOverallMeasure(std::string_view name);
+
+// The longest on-delay window ("N of M" with M up to this), the same bound the alarm engine keeps.
+inline constexpr int kMaxOnDelayWindow = 64;
+
+struct OnDelay {
+  int n = 1;  // raise when at least n ...
+  int m = 1;  // ... of the last m intervals reach the setpoint
+};
+// "2 of 3" (N of the last M intervals) or a whole number N (N of N); 1 <= N <= M <= 64.
+Result<OnDelay> ParseOnDelay(std::string_view text);
+
+struct Deadband {
+  DeadbandKind kind = DeadbandKind::kPercent;
+  double value = 5.0;
+};
+// "5%" (percent of each setpoint, below 50) or a number >= 0 in the measure's unit.
+Result<Deadband> ParseDeadband(std::string_view text);
 
 struct SiteInfo {
   std::string name;  // required
@@ -72,6 +112,41 @@ struct ProfileConfig {
   double time_constant_s = 1.0;  // exponential averaging only
 };
 
+// One limit set of a point: the alarm on one measure. Values are in the measure's unit (the band's
+// unit, the sample unit for overall_rms/peak/peak_to_peak/mean, none for crest factor and
+// kurtosis). With the ISO preset the high limits come from the machine's ISO 10816-3 class and are
+// not written here.
+struct AlarmLimitConfig {
+  std::string measure;          // required: a band name of the point or an overall indicator
+  std::optional<double> alert;  // high limits; required unless a preset gives them
+  std::optional<double> danger;
+  std::optional<double> low_alert;  // optional low limits (a fan whose belt broke goes quiet)
+  std::optional<double> low_danger;
+  Deadband deadband;  // 5 % of each setpoint
+  OnDelay on_delay;   // 1 of 1: raise on the first interval at the setpoint
+  int off_delay = 1;  // consecutive intervals past the reset level before clearing
+  bool latching = false;
+  std::optional<double> stale_after_s;  // unset: no stale check
+  AlarmPreset preset = AlarmPreset::kNone;
+  std::optional<double> baseline;  // mm/s; with the ISO preset: the standard's baseline rule
+};
+
+struct ValueRange {
+  double low = 0.0;
+  double high = 0.0;
+};
+
+// Per-point sensor checks (flatline, clipping, DC bias, dropouts); absent keys keep the checks
+// off or at the alarm engine's defaults.
+struct SensorChecksConfig {
+  std::optional<double> full_scale;       // sample unit; enables the clipping check
+  std::size_t clip_count = 3;             // clipped samples per interval that fault the sensor
+  std::optional<double> noise_floor_rms;  // sample unit; RMS at or below it is a flatline
+  std::size_t identical_run = 100;        // longest run of identical samples tolerated
+  std::optional<ValueRange> mean_window;  // sample unit: DC bias window of the interval mean
+  std::size_t max_sequence_gaps = 0;      // frames lost per interval before the sensor faults
+};
+
 struct PointConfig {
   std::string id;       // required, unique among points
   std::string machine;  // required: a MachineConfig id
@@ -84,6 +159,8 @@ struct PointConfig {
   double sample_rate_hz = 0.0;                   // required
   std::string profile;                           // required: a ProfileConfig id
   std::vector<estimators::BandSpec> bands;       // the band's unit says its quantity
+  std::vector<AlarmLimitConfig> alarms;          // at most one per measure
+  SensorChecksConfig sensor_checks;
 };
 
 struct ListenerConfig {
@@ -109,9 +186,21 @@ struct DropDirectoryConfig {
   std::vector<DropFileConfig> files;
 };
 
-// Only the database path for now; retention and roll-up keys join this struct later.
+// Days each level of the trend database is kept; 0 keeps it forever.
+struct RetentionConfig {
+  int raw_days = 90;
+  int hourly_days = 1095;  // three years
+  int daily_days = 0;
+  int spectrum_days = 90;
+};
+// The longest retention accepted: 100000 days (274 years) in nanoseconds stays inside int64.
+inline constexpr int kMaxRetentionDays = 100000;
+
 struct StorageConfig {
   std::string path = "spinward.sqlite";
+  RetentionConfig retention;
+  double spectrum_every_s = 3600.0;  // spacing of stored spectrum snapshots; 0: every interval
+  Durability durability = Durability::kFull;
 };
 
 struct LoggingConfig {

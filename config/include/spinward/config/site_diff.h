@@ -1,7 +1,8 @@
 // What changed between two loaded sites, for a reload on SIGHUP: which points keep running as they
 // are, which must be rebuilt, which start and which stop, and which site-wide parts changed.
 // A point counts as changed when anything its pipeline uses differs: its own keys, its bands, its
-// profile's settings or its machine's settings (the machine feeds alarm limits).
+// alarm limit sets and sensor checks, its profile's settings or its machine's settings (the
+// machine feeds the ISO preset's limits). Storage counts as changed when any of its keys does.
 // Thread-safety: pure function.
 #pragma once
 
