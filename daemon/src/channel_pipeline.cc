@@ -53,6 +53,14 @@ Status PointSettings::Validate() const {
     return Status::Fail("point " + point_id + ": sample unit " +
                         std::string(estimators::ToString(sample_unit)) + " is not an acceleration");
   }
+  // Volts / sensitivity gives the sensitivity's unit: records labelled otherwise would be wrong by
+  // the conversion factor (9.80665 for g against m/s^2).
+  if (sensitivity && sensitivity->unit != sample_unit) {
+    return Status::Fail("point " + point_id + ": sensitivity is per " +
+                        std::string(estimators::ToString(sensitivity->unit)) +
+                        " but the samples are declared in " +
+                        std::string(estimators::ToString(sample_unit)));
+  }
   for (const auto& band : bands) {
     if (Status s = band.Validate(sample_rate_hz); !s.ok()) {
       return Status::Fail("point " + point_id + ": band " + band.name + ": " + s.message());

@@ -180,7 +180,14 @@ struct TcpSession : std::enable_shared_from_this<TcpSession> {
 
   void OnRead(const boost::system::error_code& ec, std::size_t n) {
     if (closed) return;
-    if (ec) {  // peer closed or reset: a normal end
+    if (ec) {  // peer closed or reset: a normal end, unless it left a frame unfinished
+      if (assembler.buffered_bytes() != 0 && !assembler.failed()) {
+        listener->CountBad(
+            FrameError{FrameErrorReason::kTruncated,
+                       "connection ended " + std::to_string(assembler.buffered_bytes()) +
+                           " bytes into a frame"},
+            peer);
+      }
       Close();
       return;
     }

@@ -166,8 +166,10 @@ OfferResult PointRouter::Offer(SampleBlock&& block) {
     worker = it->second;
   }
   const std::size_t n = block.samples.size();
-  if (impl_->stopped ||
-      worker->queued_samples.load() + n > impl_->options.max_queued_samples_per_point) {
+  // An idle point always takes a block, however large: otherwise a frame longer than the queue
+  // limit could never be queued, and a TCP sender would be paused for good.
+  const std::size_t queued = worker->queued_samples.load();
+  if (impl_->stopped || (queued != 0 && queued + n > impl_->options.max_queued_samples_per_point)) {
     impl_->refused_full++;
     return OfferResult::kFull;
   }

@@ -5,6 +5,7 @@
 // different points run in parallel, so one slow or broken point never blocks another. Queues are
 // bounded per point (in samples): when a point falls behind, Offer answers kFull and the source
 // decides what that means (TCP stops reading the socket until there is room; UDP drops and counts).
+// A point with nothing queued takes any block, even one longer than the limit.
 // Reload swaps the set of points: unchanged points keep their running state, changed ones are
 // flushed and restarted. Thread-safety: all public members may be called from any thread.
 #pragma once
