@@ -127,7 +127,13 @@ ALTER TABLE alarm_state ADD COLUMN ack_ns INTEGER NOT NULL DEFAULT 0;
 ALTER TABLE alarm_state ADD COLUMN ack_note TEXT NOT NULL DEFAULT '';
 )sql";
 
-constexpr const char* kSteps[] = {kToVersion1, kToVersion2};
+// Version 3: the alarm engine's full snapshot per state (latch level, on-delay history, flags), so a
+// restarted daemon restores its alarms exactly. Older rows keep '' and restore from the summary.
+constexpr const char* kToVersion3 = R"sql(
+ALTER TABLE alarm_state ADD COLUMN engine_state TEXT NOT NULL DEFAULT '';
+)sql";
+
+constexpr const char* kSteps[] = {kToVersion1, kToVersion2, kToVersion3};
 static_assert(std::size(kSteps) == kSchemaVersion, "one migration step per schema version");
 
 }  // namespace

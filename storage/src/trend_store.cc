@@ -334,13 +334,14 @@ WriteOutcome TrendStore::Write(const WriteBatch& batch) {
         /*10*/ "INSERT INTO outbox (event_id, payload, created_ns) VALUES (?1, ?2, ?3)",
         /*11*/
         "INSERT INTO alarm_state (point_pk, measure, state, since_ns, latched, last_value, "
-        "last_event_id, updated_ns, ack_by, ack_ns, ack_note) "
-        "VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11) "
+        "last_event_id, updated_ns, ack_by, ack_ns, ack_note, engine_state) "
+        "VALUES (?1, ?2, ?3, ?4, ?5, ?6, ?7, ?8, ?9, ?10, ?11, ?12) "
         "ON CONFLICT (point_pk, measure) DO UPDATE SET state = excluded.state, "
         "since_ns = excluded.since_ns, latched = excluded.latched, "
         "last_value = excluded.last_value, last_event_id = excluded.last_event_id, "
         "updated_ns = excluded.updated_ns, ack_by = excluded.ack_by, "
-        "ack_ns = excluded.ack_ns, ack_note = excluded.ack_note",
+        "ack_ns = excluded.ack_ns, ack_note = excluded.ack_note, "
+        "engine_state = excluded.engine_state",
     };
     std::vector<Statement> out;
     for (const char* text : sql) {
@@ -495,7 +496,7 @@ WriteOutcome TrendStore::Write(const WriteBatch& batch) {
     st[11].BindOptional(
         6, std::isfinite(a.last_value) ? std::optional<double>(a.last_value) : std::nullopt);
     st[11].Bind(7, a.last_event_id).Bind(8, a.updated_ns).Bind(9, a.ack_by).Bind(10, a.ack_ns);
-    st[11].Bind(11, a.ack_note);
+    st[11].Bind(11, a.ack_note).Bind(12, a.engine_state);
     if (auto f = s.Run(st[11], "saving alarm state")) return fail(f->code, f->what);
   }
   statements->clear();
@@ -691,7 +692,7 @@ AlarmEventRecord ReadEvent(const Statement& stmt) {
 
 constexpr const char* kStateColumns =
     "p.point_id, a.measure, a.state, a.since_ns, a.latched, a.last_value, "
-    "coalesce(a.last_event_id, ''), a.ack_by, a.ack_ns, a.ack_note, a.updated_ns";
+    "coalesce(a.last_event_id, ''), a.ack_by, a.ack_ns, a.ack_note, a.updated_ns, a.engine_state";
 
 AlarmStateRecord ReadState(const Statement& stmt, int at) {
   AlarmStateRecord a;
@@ -706,6 +707,7 @@ AlarmStateRecord ReadState(const Statement& stmt, int at) {
   a.ack_ns = stmt.Int(at + 8);
   a.ack_note = stmt.Text(at + 9);
   a.updated_ns = stmt.Int(at + 10);
+  a.engine_state = stmt.Text(at + 11);
   return a;
 }
 

@@ -211,6 +211,24 @@ TEST_F(TrendStoreWrite, AlarmStateSurvivesReopen) {
   EXPECT_EQ(states->at(0).last_event_id, "lf-1");
 }
 
+TEST_F(TrendStoreWrite, EngineSnapshotTextSurvivesReopenByteForByte) {
+  // Schema v3 keeps the alarm engine's snapshot verbatim; escapes and newlines included.
+  const std::string snapshot = "version=1\npoint=P-101\nsensor_fault_reason=a\\nb\n";
+  WriteBatch batch;
+  batch.events.push_back(AlertEvent("lf-1", kBaseNs));
+  auto state = AlertState(kBaseNs, true);
+  state.engine_state = snapshot;
+  batch.states.push_back(state);
+  ASSERT_TRUE(store_->Write(batch).status.ok());
+  store_.reset();
+  auto reopened = TrendStore::Open(path_.string());
+  ASSERT_TRUE(reopened.ok()) << reopened.message();
+  auto states = reopened->LoadAlarmStates();
+  ASSERT_TRUE(states.ok()) << states.message();
+  ASSERT_EQ(states->size(), 1u);
+  EXPECT_EQ(states->at(0).engine_state, snapshot);
+}
+
 TEST_F(TrendStoreWrite, AlarmsOpenOnlyAndAcknowledge) {
   WriteBatch batch;
   batch.events.push_back(AlertEvent("lf-1", kBaseNs));

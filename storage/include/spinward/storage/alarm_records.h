@@ -41,6 +41,9 @@ struct AlarmStateRecord {
   std::int64_t ack_ns = 0;
   std::string ack_note;
   std::int64_t updated_ns = 0;
+  // The alarm engine's full snapshot as text (daemon/src/alarm_snapshot_text.h), so a restart
+  // restores latch, acknowledgement and on-delay history exactly. Empty in databases before v3.
+  std::string engine_state;
 };
 
 // An acknowledgement entered by a person (the CLI's `ack`), kept as history.
