@@ -100,7 +100,40 @@ std::size_t ChannelPipeline::SamplesUntilAverageCompletes() const {
   return static_cast<std::size_t>(end - run_samples_);
 }
 
+void ChannelPipeline::NoteRejected(const SampleBlock& block) {
+  if (!in_run_) return;
+  lost_block_ = true;
+  if (block.has_sequence) last_sequence_ = block.sequence;  // the gap is this block, not the next
+}
+
+// Raw facts for the sensor checks: the longest run of identical samples (a stuck sensor or a dead
+// channel repeats one value) and the samples at or beyond the clip level.
+void ChannelPipeline::CountSensorFacts(std::span<const double> piece) {
+  const double clip = settings_.clip_level.value_or(0.0);
+  const bool check_clip = settings_.clip_level.has_value();
+  for (double x : piece) {
+    if (x == previous_sample_) {
+      ++identical_run_;
+    } else {
+      identical_run_ = 1;
+      previous_sample_ = x;
+    }
+    if (identical_run_ > longest_identical_run_) longest_identical_run_ = identical_run_;
+    if (check_clip && (x >= clip || x <= -clip)) ++clipped_samples_;
+  }
+}
+
 void ChannelPipeline::Restart(const SampleBlock& block) {
+  // No average spans a gap: the interval in progress ends at the last sample before it, as a
+  // shorter record (its segment count says so); samples too few for a segment are dropped with it.
+  if (in_run_) {
+    if (welch_.segments_in_average() > 0) {
+      Emit(welch_.TakeAverage(), TimeOfRunSample(run_samples_));
+    } else {
+      indicators_.Reset();
+      interval_open_ = false;
+    }
+  }
   welch_.Reset();
   in_run_ = true;
   run_start_ns_ = block.first_sample_ns;
@@ -112,10 +145,12 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
   const std::size_t n = block.samples.size();
   if (n == 0) {
     counters_.rejected_other++;
+    NoteRejected(block);
     return {BlockVerdict::kEmpty, false, "empty block"};
   }
   if (!SameRate(block.sample_rate_hz, settings_.sample_rate_hz)) {
     counters_.rejected_rate++;
+    NoteRejected(block);
     return {BlockVerdict::kRateMismatch, false,
             "sample rate " + std::to_string(block.sample_rate_hz) +
                 " Hz differs from the configured " + std::to_string(settings_.sample_rate_hz) +
@@ -124,12 +159,14 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
   for (std::size_t i = 0; i < n; ++i) {
     if (!std::isfinite(block.samples[i])) {
       counters_.rejected_non_finite++;
+      NoteRejected(block);
       return {BlockVerdict::kNonFiniteSamples, false,
               "non-finite sample at index " + std::to_string(i) + " of " + std::to_string(n)};
     }
   }
   if (block.in_volts && !settings_.sensitivity) {
     counters_.rejected_other++;
+    NoteRejected(block);
     return {BlockVerdict::kNotScalable, false,
             "block in volts but the point has no sensitivity configured"};
   }
@@ -137,8 +174,15 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
   // Gap-free continuation, or a restart of the segmenting.
   if (!in_run_) {
     Restart(block);
+  } else if (lost_block_) {
+    // A block was rejected since the last one used: its samples are missing from the stream.
+    ++interval_gaps_;
+    outcome.restarted = true;
+    outcome.message = "restarted after a rejected block";
+    Restart(block);
   } else if (block.has_sequence && block.sequence != last_sequence_ + 1) {
     counters_.sequence_gaps++;
+    ++interval_gaps_;
     outcome.restarted = true;
     outcome.message = "sequence gap: expected " + std::to_string(last_sequence_ + 1) + ", got " +
                       std::to_string(block.sequence);
@@ -147,13 +191,14 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
     const std::int64_t expected = TimeOfRunSample(run_samples_);
     const std::int64_t jump = block.first_sample_ns - expected;
     if (jump > settings_.time_jump_tolerance_ns || -jump > settings_.time_jump_tolerance_ns) {
-      counters_.time_jumps++;
+      counters_.time_jumps++;  // not a loss: a box that sends snapshots jumps between them
       outcome.restarted = true;
       outcome.message = "time jump of " + std::to_string(jump) + " ns";
       Restart(block);
     }
   }
   last_sequence_ = block.sequence;
+  lost_block_ = false;
 
   scaled_.resize(n);
   if (block.in_volts) {
@@ -177,6 +222,7 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
     welch_.Push(piece, on_average).IgnoreError();  // finite already checked above
     counters_.segments += welch_.segments_total() - segments_before;
     indicators_.Add(piece);
+    CountSensorFacts(piece);
     run_samples_ += take;
     pos += take;
     if (completed_) {
@@ -202,6 +248,12 @@ void ChannelPipeline::Emit(estimators::AveragedSpectrum spectrum, std::int64_t e
   record.segment_count = spectrum.segment_count;
   record.sample_unit = std::string(estimators::ToString(settings_.sample_unit));
   record.indicators = indicators_.Current();
+  record.clipped_samples = clipped_samples_;
+  record.longest_identical_run = longest_identical_run_;
+  record.sequence_gaps = interval_gaps_;
+  clipped_samples_ = 0;
+  longest_identical_run_ = identical_run_;  // a run in progress carries into the next interval
+  interval_gaps_ = 0;
   record.bands.reserve(settings_.bands.size());
   for (const auto& band : settings_.bands) {
     storage::BandReading reading;

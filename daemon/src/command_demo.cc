@@ -1,219 +1,263 @@
-// `spinward demo` (interim): records a synthetic vibration signal of the invented Larkfield booster
-// station's pump P-101 into a WAV, reads it back through the recording reader, analyzes it as
-// `spinward analyze` would, saves the spectrum and report beside it and prints a short summary.
-// It exercises the file path end to end in a few seconds; the full daemon demo will replace it.
-#include <algorithm>
-#include <charconv>
+// `spinward demo`: the README's main command. Runs the real daemon in-process with the built-in
+// site (the invented Larkfield booster pump station) on loopback ports, with trend storage and
+// alarms, feeds it a compressed day in which pump P-101's drive-end bearing worsens, then prints
+// what it found, a close-up of the failing bearing, and the commands to look further.
+#include <unistd.h>
+
+#include <chrono>
 #include <cmath>
 #include <cstdio>
 #include <filesystem>
-#include <string>
-#include <system_error>
-#include <vector>
+#include <fstream>
+#include <map>
 
-#include "analysis_report.h"
 #include "commands.h"
-#include "demo_signal.h"
-#include "recording_analysis.h"
-#include "spinward/daemon/recording_reader.h"
-#include "wav_writer.h"
+#include "demo_close_up.h"
+#include "demo_scenario.h"
+#include "option_reader.h"
+#include "spinward/config/demo_site.h"
+#include "spinward/config/site_loader.h"
+#include "spinward/daemon/iso_presets.h"
+#include "spinward/daemon/json_lines_sink.h"
+#include "spinward/daemon/monitoring_service.h"
+#include "trend_backend.h"
 
 namespace spinward::daemon {
 namespace {
 
-namespace est = spinward::estimators;
 namespace fs = std::filesystem;
 
-constexpr std::string_view kUsage = R"usage(usage: spinward demo [--dir DIR] [--seconds S]
-
-Generates a synthetic recording of pump P-101 at the Larkfield water utility's booster station (an
-invented scenario): shaft at 1480 rpm, 1x and 2x lines, vane pass of its 7-vane impeller, and a
-developing outer-race defect in the drive-end bearing ringing a structural resonance, plus noise.
-Writes it as a 24-bit WAV (volts from a 100 mV/g accelerometer), analyzes it like `spinward
-analyze`, saves the spectrum (CSV) and the analysis (JSON), and prints the overall velocity, the
-strongest lines and where the files are.
-
-  --dir DIR      where to write the files; default ./spinward-demo
-  --seconds S    length of the recording, 1 to 600; default 20
-  --help         this text
-)usage";
-
-constexpr double kSensitivityVoltsPerG = 0.100;  // a common general-purpose accelerometer
-constexpr std::size_t kSegment = 16384;          // 1.5625 Hz bins at 25.6 kHz
-
-std::string Hz(double hz) {
-  char buffer[32];
-  std::snprintf(buffer, sizeof buffer, "%.1f Hz", hz);
-  return buffer;
-}
+constexpr const char* kDemoHelp =
+    "usage: spinward demo [options]\n"
+    "\n"
+    "Runs the daemon on loopback with a built-in site, the invented Larkfield water utility's\n"
+    "booster pump station (pumps P-101 and P-102, ventilation fan F-201, eight accelerometers),\n"
+    "and feeds it a compressed day of hourly snapshots over TCP (pumps) and UDP (fan) in which\n"
+    "P-101's drive-end bearing worsens. Trends and alarms go to a SQLite database in DIR.\n"
+    "\n"
+    "options:\n"
+    "  --dir DIR               where to write the site file, database and records (default\n"
+    "                          ./spinward-demo; the demo's previous database there is replaced)\n"
+    "  --hours N               hours in the demo day (default 24)\n"
+    "  --seconds-per-hour S    seconds of signal per point per hour (default 3)\n"
+    "  --close-up-seconds S    length of the close-up recording (default 20)\n";
 
 int Fail(const std::string& message, int code) {
   std::fprintf(stderr, "spinward demo: %s\n", message.c_str());
   return code;
 }
 
-struct Line {
-  double hz = 0.0;
-  double rms_mm_s = 0.0;
-  std::string label;
+struct PointDay {
+  double first_velocity = NAN, last_velocity = NAN, first_bearing = NAN, last_bearing = NAN;
+  std::size_t records = 0;
 };
 
-// What a line at `hz` is, for the demo's own machine: an order of shaft speed, the vane pass or
-// the bearing's outer-race ball pass, within one bin.
-std::string LabelFor(double hz, const PumpSignalSpec& spec, double bin_hz) {
-  const double tolerance = bin_hz;
-  if (std::abs(hz - spec.VanePassHz()) <= tolerance) {
-    return std::to_string(spec.vane_count) + "x vane pass";
-  }
-  for (int k = 1; k <= 4; ++k) {
-    if (std::abs(hz - k * spec.BpfoHz()) <= tolerance) {
-      return (k == 1 ? std::string("") : std::to_string(k) + "x ") + "BPFO (outer race)";
+class DaySummarySink final : public RecordSink {
+ public:
+  void Consume(const storage::MeasurementRecord& record) override {
+    std::lock_guard lock(mutex_);
+    auto& day = days_[record.point_id];
+    ++day.records;
+    for (const auto& band : record.bands) {
+      const bool first = day.records == 1;
+      if (band.name == "velocity") (first ? day.first_velocity : day.last_velocity) = band.rms;
+      if (band.name == "bearing") (first ? day.first_bearing : day.last_bearing) = band.rms;
     }
   }
-  const double order = hz / spec.ShaftHz();
-  if (std::abs(order - std::round(order)) * spec.ShaftHz() <= tolerance && order >= 0.5) {
-    return std::to_string(static_cast<int>(std::round(order))) + "x shaft";
+  std::map<std::string, PointDay> Days() const {
+    std::lock_guard lock(mutex_);
+    return days_;
   }
-  return "";
-}
 
-// The strongest lines of the velocity spectrum between 10 and 1000 Hz: bins that top their
-// neighbours within +-3 bins. A line's RMS comes from the density over +-2 bins (the Hann main
-// lobe), its frequency from the power-weighted centre of those bins (finer than one bin).
-std::vector<Line> StrongestLines(const Analysis& analysis, const PumpSignalSpec& spec,
-                                 std::size_t count) {
-  const auto& velocity = analysis.spectrum;
-  const auto& p = velocity.values;
-  const double df = velocity.BinWidthHz();
-  constexpr std::size_t kReach = 3;
-  std::vector<Line> lines;
-  for (std::size_t m = kReach; m + kReach < p.size(); ++m) {
-    const double f = velocity.FrequencyHz(m);
-    if (f < 10.0 || f > 1000.0) continue;
-    bool peak = true;
-    for (std::size_t k = m - kReach; k <= m + kReach && peak; ++k) {
-      peak = k == m || (k < m ? p[k] < p[m] : p[k] <= p[m]);
-    }
-    if (!peak) continue;
-    double weight = 0.0;
-    double moment = 0.0;
-    for (std::size_t k = m - 2; k <= m + 2; ++k) {
-      weight += p[k];
-      moment += p[k] * velocity.FrequencyHz(k);
-    }
-    est::BandSpec band;
-    band.name = "line";
-    band.lo_hz = f - 2.5 * df;
-    band.hi_hz = f + 2.5 * df;
-    band.unit = est::Unit::kMillimetresPerSecond;
-    auto value = est::IntegrateBand(analysis.density, band, analysis.input_unit);
-    if (!value.ok()) continue;
-    const double centre = weight > 0.0 ? moment / weight : f;
-    lines.push_back({centre, value->rms, LabelFor(centre, spec, df)});
-  }
-  std::sort(lines.begin(), lines.end(),
-            [](const Line& a, const Line& b) { return a.rms_mm_s > b.rms_mm_s; });
-  if (lines.size() > count) lines.resize(count);
-  return lines;
-}
-
-Status WriteText(const fs::path& path, const std::string& text) {
-  std::FILE* file = std::fopen(path.string().c_str(), "wb");
-  if (file == nullptr) return Status::Fail(path.string() + ": cannot open for writing");
-  const bool written = std::fwrite(text.data(), 1, text.size(), file) == text.size();
-  const bool closed = std::fclose(file) == 0;
-  if (!written || !closed) return Status::Fail(path.string() + ": write failed");
-  return Status::Ok();
-}
+ private:
+  mutable std::mutex mutex_;
+  std::map<std::string, PointDay> days_;
+};
 
 }  // namespace
 
 int CommandDemo(const Arguments& args) {
-  fs::path dir = "spinward-demo";
-  double seconds = 20.0;
-  for (std::size_t i = 0; i < args.size(); ++i) {
-    const std::string& option = args[i];
-    if (option == "--help" || option == "-h") {
-      std::fwrite(kUsage.data(), 1, kUsage.size(), stdout);
-      return 0;
-    }
-    if (option != "--dir" && option != "--seconds") {
-      return Fail("unknown option '" + option + "' (spinward demo --help lists them)", 2);
-    }
-    if (i + 1 >= args.size()) return Fail(option + ": needs a value", 2);
-    const std::string& value = args[++i];
-    if (option == "--dir") {
-      if (value.empty()) return Fail("--dir '': must name a directory", 2);
-      dir = value;
-    } else {
-      const auto [end, error] = std::from_chars(value.data(), value.data() + value.size(), seconds);
-      if (error != std::errc() || end != value.data() + value.size() || !(seconds >= 1.0) ||
-          seconds > 600.0) {
-        return Fail("--seconds '" + value + "': must be a number from 1 to 600", 2);
-      }
-    }
+  auto opt = OptionReader::Parse(
+      args, {"--dir", "--hours", "--seconds-per-hour", "--close-up-seconds"}, {"--help"});
+  if (!opt.ok()) return Fail(opt.message(), 2);
+  if (opt->Has("--help")) {
+    std::fputs(kDemoHelp, stdout);
+    return 0;
+  }
+  const fs::path dir = opt->Value("--dir").value_or("spinward-demo");
+  auto hours = opt->Integer("--hours", 24, 2, 24 * 14);
+  auto per_hour = opt->Number("--seconds-per-hour", 3.0);
+  auto close_up = opt->Number("--close-up-seconds", 20.0);
+  for (const Status& s : {hours.status(), per_hour.status(), close_up.status()}) {
+    if (!s.ok()) return Fail(s.message(), 2);
+  }
+  if (!(*per_hour >= 1.0 && *per_hour <= 60.0)) {
+    return Fail("--seconds-per-hour '" + *opt->Value("--seconds-per-hour") + "': must be 1 to 60",
+                2);
+  }
+  if (!(*close_up >= 1.0 && *close_up <= 600.0)) {
+    return Fail("--close-up-seconds '" + *opt->Value("--close-up-seconds") + "': must be 1 to 600",
+                2);
   }
 
   std::error_code ec;
   fs::create_directories(dir, ec);
   if (ec) return Fail(dir.string() + ": cannot create directory: " + ec.message(), 1);
+  const fs::path db = dir / "larkfield.sqlite";
+  for (const char* suffix : {"", "-wal", "-shm"}) fs::remove(db.string() + suffix, ec);
+  const fs::path records_path = dir / "records.jsonl";
+  fs::remove(records_path, ec);
 
-  PumpSignalSpec spec;
-  auto generator = PumpSignalGenerator::Create(spec);
-  if (!generator.ok()) return Fail(generator.message(), 1);
-  std::vector<double> volts(static_cast<std::size_t>(std::llround(seconds * spec.sample_rate_hz)));
-  generator->Generate(volts);
-  for (double& v : volts) v = v / est::kStandardGravity * kSensitivityVoltsPerG;
+  config::DemoSiteOptions site_options;
+  site_options.storage_path = db.string();
+  site_options.interval_s = 1.0;
+  const std::string yaml = config::DemoSiteYaml(site_options);
+  std::ofstream(dir / "larkfield-site.yaml") << yaml;
+  auto loaded = config::ParseSiteText(yaml, (dir / "larkfield-site.yaml").string());
+  if (!loaded.ok()) return Fail("built-in site: " + loaded.problems.front().ToString(), 1);
 
-  const fs::path wav = dir / "p101_de_radial.wav";
-  if (Status written = WriteWavPcm24(wav, volts, spec.sample_rate_hz); !written.ok()) {
-    return Fail(written.message(), 1);
-  }
-  auto recording = ReadRecording(wav, {});
-  if (!recording.ok()) return Fail(recording.message(), 1);
+  std::vector<std::string> warnings;
+  std::mutex warnings_mutex;
+  auto log = [&](const std::string& level, const std::string& message) {
+    if (level == "warn" || level == "error") {
+      std::lock_guard lock(warnings_mutex);
+      if (message.rfind("alarm ", 0) != 0) warnings.push_back(message);
+    }
+  };
+  auto backend = TrendBackend::Open(loaded.site, log);
+  if (!backend.ok()) return Fail(backend.message(), 1);
+  auto sinks = std::make_shared<FanOutSink>();
+  auto summary = std::make_shared<DaySummarySink>();
+  sinks->Add(summary);
+  sinks->Add((*backend)->Sink());
+  auto records = JsonLinesSink::Open(records_path, false);
+  if (!records.ok()) return Fail(records.message(), 1);
+  sinks->Add(*records);
 
-  AnalysisOptions options;
-  options.welch.segment_length = kSegment;
-  options.welch.overlap = kSegment / 2;
-  options.sensitivity = est::Sensitivity{kSensitivityVoltsPerG, est::Unit::kG};
-  options.spectrum_unit = est::Unit::kMillimetresPerSecond;
-  options.bands.push_back({"velocity 10-1000 Hz", 10.0, 1000.0, est::Unit::kMillimetresPerSecond});
-  options.bands.push_back({"bearing resonance 2-5 kHz", 2000.0, 5000.0, est::Unit::kG});
-  auto analysis = AnalyzeRecording(*recording, options);
-  if (!analysis.ok()) return Fail(analysis.message(), 1);
+  ServiceOptions service_options;
+  service_options.sink = sinks;
+  service_options.log = log;
+  auto service = MonitoringService::Create(loaded.site, service_options);
+  if (!service.ok()) return Fail(service.message(), 1);
+  if (Status s = (*service)->Start(); !s.ok()) return Fail(s.message(), 1);
 
-  const fs::path csv = dir / "p101_de_radial_psd.csv";
-  const fs::path json = dir / "p101_de_radial_analysis.json";
-  if (Status s = WriteText(csv, FormatAnalysisCsv(*analysis)); !s.ok()) return Fail(s.message(), 1);
-  if (Status s = WriteText(json, FormatAnalysisJson(*analysis, *recording, options)); !s.ok()) {
-    return Fail(s.message(), 1);
-  }
-
-  const auto& velocity_band = analysis->bands[0];
-  const auto& bearing_band = analysis->bands[1];
-  std::printf("Spinward demo: Larkfield booster station, pump P-101, drive-end bearing, radial\n");
-  std::printf("(synthetic signal of an invented machine: %.0f rpm, %d-vane impeller)\n\n",
-              spec.shaft_rpm, spec.vane_count);
-  std::printf("  overall velocity  %.2f mm/s RMS, 10-1000 Hz\n", velocity_band.value.rms);
-  std::printf("  bearing band      %.3f g RMS, 2-5 kHz (outer-race ball pass %.1f Hz)\n",
-              bearing_band.value.rms, spec.BpfoHz());
-  std::printf("  strongest lines   (velocity RMS over the line's bins)\n");
-  for (const auto& line : StrongestLines(*analysis, spec, 5)) {
-    std::printf("    %10s  %5.2f mm/s  %s\n", Hz(line.hz).c_str(), line.rms_mm_s,
-                line.label.c_str());
-  }
-  std::printf("\n  recording  %s (%.0f s, 24-bit, %.0f mV/g)\n", wav.string().c_str(), seconds,
-              kSensitivityVoltsPerG * 1000.0);
-  std::printf("  spectrum   %s (velocity PSD, (mm/s)^2/Hz, %zu segments of %zu)\n",
-              csv.string().c_str(), analysis->spectrum.segment_count, kSegment);
-  std::printf("  analysis   %s\n", json.string().c_str());
+  const auto began = std::chrono::steady_clock::now();
+  DemoScenarioOptions scenario;
+  scenario.hours = static_cast<int>(*hours);
+  scenario.seconds_per_hour = *per_hour;
+  const auto now = std::chrono::system_clock::now();
+  const std::int64_t now_ns =
+      std::chrono::duration_cast<std::chrono::nanoseconds>(now.time_since_epoch()).count();
+  const std::int64_t hour_ns = 3600LL * 1'000'000'000LL;
+  scenario.day_start_ns = (now_ns / hour_ns - scenario.hours) * hour_ns;  // the day just past
+  std::printf("Spinward demo: Larkfield booster pump station (an invented site)\n");
   std::printf(
-      "  again by hand: spinward analyze %s --sensitivity \"100 mV/g\" --segment %zu "
-      "--quantity velocity --band 10:1000\n\n",
-      wav.string().c_str(), kSegment);
+      "  daemon on %s, %zu points; sending %d hourly snapshots of %.0f s per point\n",
+      [&] {
+        std::string where;
+        for (const auto& l : (*service)->Listeners())
+          where += (where.empty() ? "" : " and ") + l.description;
+        return where;
+      }()
+          .c_str(),
+      loaded.site.points.size(), scenario.hours, scenario.seconds_per_hour);
+  const bool terminal = ::isatty(STDOUT_FILENO) != 0;
+  Status sent = SendDemoDay(**service, scenario, [&](int hour) {
+    if (terminal) {
+      std::printf("\r  hour %2d of %d sent", hour + 1, scenario.hours);
+      std::fflush(stdout);
+    }
+  });
+  if (terminal) std::printf("\n");
+  (*service)->Stop();
+  (*backend)->Stop();
+  if (!sent.ok()) return Fail("feeding the daemon: " + sent.message(), 1);
+  const double elapsed =
+      std::chrono::duration<double>(std::chrono::steady_clock::now() - began).count();
+
+  const auto points = (*service)->PointTotals();
+  const auto sources = (*service)->Sources();
+  const auto stored = (*backend)->Counters();
   std::printf(
-      "Advisory only: Spinward is not a protection system; site maintenance rules, "
-      "protection systems and licensed practice prevail.\n");
+      "  %llu frames received, %llu bad, %llu dropped; %llu records, %llu committed to the "
+      "database in %.1f s\n\n",
+      static_cast<unsigned long long>(sources.frames),
+      static_cast<unsigned long long>(sources.bad_frames),
+      static_cast<unsigned long long>(sources.dropped_full),
+      static_cast<unsigned long long>(points.records),
+      static_cast<unsigned long long>(stored.committed_records), elapsed);
+
+  std::printf(
+      "What changed over the day (velocity RMS 10-1000 Hz, ISO 10816-3 zone; bearing band "
+      "1-10 kHz):\n");
+  std::printf("  %-11s %-7s %21s %6s %19s\n", "point", "machine", "velocity mm/s", "zone",
+              "bearing g");
+  for (const auto& point : loaded.site.points) {
+    auto days = summary->Days();
+    const auto& d = days[point.id];
+    const auto* machine = loaded.site.FindMachine(point.machine);
+    const auto group =
+        machine && machine->iso_group == 1 ? IsoMachineGroup::kGroup1 : IsoMachineGroup::kGroup2;
+    const auto support = machine && machine->support == config::MachineSupport::kFlexible
+                             ? IsoSupport::kFlexible
+                             : IsoSupport::kRigid;
+    const char zone = ToChar(ClassifyIsoZone(IsoBoundaries(group, support), d.last_velocity));
+    std::printf("  %-11s %-7s %8.2f -> %8.2f %6c %8.3f -> %8.3f\n", point.id.c_str(),
+                point.machine.c_str(), d.first_velocity, d.last_velocity, zone, d.first_bearing,
+                d.last_bearing);
+  }
+
+  auto reader = storage::TrendStore::OpenReadOnly(db.string());
+  if (!reader.ok()) return Fail(reader.message(), 1);
+  auto alarms = reader->Alarms(0, false);
+  if (!alarms.ok()) return Fail(alarms.message(), 1);
+  std::printf("\nAlarm events (%zu):\n", alarms->size());
+  std::size_t shown = 0;
+  for (const auto& event : *alarms) {
+    if (shown++ == 12) {
+      std::printf("  ... (%zu more: see `spinward alarms`)\n", alarms->size() - 12);
+      break;
+    }
+    std::printf("  %s  %-11s %-9s %s -> %s at %.3g\n", FormatUtc(event.time_ns).c_str(),
+                event.point_id.c_str(), event.measure.c_str(), event.from_state.c_str(),
+                event.to_state.c_str(), event.value);
+  }
+  {
+    std::lock_guard lock(warnings_mutex);
+    if (!warnings.empty()) {
+      std::printf("\nDaemon warnings (%zu), first: %s\n", warnings.size(),
+                  warnings.front().c_str());
+    }
+  }
+
+  std::printf("\n");
+  if (int rc = RecordingCloseUp(dir, *close_up,
+                                DemoSignalFor("P101-DE-H", scenario.hours - 1, scenario.hours));
+      rc != 0) {
+    return rc;
+  }
+
+  const std::string d = db.string();
+  std::printf("Output in %s:\n", dir.string().c_str());
+  std::printf("  site file   %s\n", (dir / "larkfield-site.yaml").string().c_str());
+  std::printf("  database    %s\n", d.c_str());
+  std::printf("  records     %s (one JSON line per point and interval)\n\n",
+              records_path.string().c_str());
+  std::printf("Look further:\n");
+  std::printf("  spinward status --db %s\n", d.c_str());
+  std::printf("  spinward alarms --db %s\n", d.c_str());
+  std::printf(
+      "  spinward trend --db %s --point P101-DE-H --band velocity --since 48h --level hourly\n",
+      d.c_str());
+  std::printf(
+      "  spinward ack P101-DE-H --db %s --by \"your name\" --note \"inspection planned\"\n\n",
+      d.c_str());
+  std::printf(
+      "Advisory only: Spinward is not a protection system; its alarms support, and never replace, "
+      "the\n"
+      "site's maintenance rules, protection systems and licensed practice. Follow lock-out and "
+      "site\n"
+      "procedures before approaching a machine.\n");
   return 0;
 }
 

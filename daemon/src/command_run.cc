@@ -15,6 +15,7 @@
 #include "spinward/config/site_loader.h"
 #include "spinward/daemon/json_lines_sink.h"
 #include "spinward/daemon/monitoring_service.h"
+#include "trend_backend.h"
 
 namespace spinward::daemon {
 namespace {
@@ -113,6 +114,15 @@ int CommandRun(const Arguments& args) {
     sinks->Add(*json);
   }
 
+  // Trend storage and alarms: a database that is corrupt or from a newer version stops the start.
+  auto backend = TrendBackend::Open(loaded.site, LogLine);
+  if (!backend.ok()) {
+    LogLine("error", "cannot start: " + backend.message());
+    return 1;
+  }
+  sinks->Add((*backend)->Sink());
+  LogLine("info", "trends and alarms in " + (*backend)->path());
+
   ServiceOptions service_options;
   service_options.worker_threads = static_cast<std::size_t>(*workers);
   service_options.sink = sinks;
@@ -132,6 +142,7 @@ int CommandRun(const Arguments& args) {
   if (auto ready = options->Value("--ready-file")) WriteReadyFile(*ready, **service);
 
   auto last_summary = std::chrono::steady_clock::now();
+  auto last_tick = std::chrono::steady_clock::now();
   for (;;) {
     timespec timeout{1, 0};
     int sig = sigtimedwait(&signals, nullptr, &timeout);
@@ -159,6 +170,12 @@ int CommandRun(const Arguments& args) {
         }
       }
     }
+    if (std::chrono::steady_clock::now() - last_tick >= std::chrono::seconds(2)) {
+      last_tick = std::chrono::steady_clock::now();
+      (*backend)->Tick(std::chrono::duration_cast<std::chrono::nanoseconds>(
+                           std::chrono::system_clock::now().time_since_epoch())
+                           .count());
+    }
     if (std::chrono::steady_clock::now() - last_summary >= std::chrono::seconds(60)) {
       last_summary = std::chrono::steady_clock::now();
       auto points = (*service)->PointTotals();
@@ -172,6 +189,10 @@ int CommandRun(const Arguments& args) {
     }
   }
   (*service)->Stop();
+  (*backend)->Stop();
+  const auto stored = (*backend)->Counters();
+  LogLine("info", "storage: " + std::to_string(stored.committed_records) + " records committed, " +
+                      std::to_string(stored.dropped_records) + " dropped");
   LogLine("info", "stopped; " + std::to_string(log_sink->records()) + " records written");
   return 0;
 }

@@ -3,6 +3,7 @@
 #include <chrono>
 
 #include "spinward/config/point_options.h"
+#include "spinward/daemon/sensor_health.h"
 
 namespace spinward::daemon {
 
@@ -15,6 +16,11 @@ PointSettings PointSettingsFor(const config::SiteConfig& site, const config::Poi
   settings.bands = point.bands;
   settings.sample_unit = point.unit;
   settings.sensitivity = point.sensitivity;
+  if (point.sensor_checks.full_scale) {
+    SensorHealthOptions health;  // the clip margin below full scale is the sensor checks' own
+    health.full_scale = point.sensor_checks.full_scale;
+    settings.clip_level = health.ClipLevel();
+  }
   return settings;
 }
 

@@ -274,7 +274,9 @@ TEST(ChannelPipeline, WrongRateAndNonFiniteBlocksAreRejectedAndCounted) {
   EXPECT_EQ(counters.rejected_non_finite.load(), 2u);
   EXPECT_EQ(counters.rejected_other.load(), 2u);
   EXPECT_EQ(counters.samples.load(), 1500u + 2600u);
-  EXPECT_EQ(counters.sequence_gaps.load(), 1u);
+  // Nothing was lost on the wire: the restart is owed to the rejected blocks, counted above, and
+  // is not reported again as a sequence gap.
+  EXPECT_EQ(counters.sequence_gaps.load(), 0u);
 }
 
 TEST(ChannelPipeline, VoltsAreDividedBySensitivity) {

@@ -25,7 +25,8 @@
 
 namespace spinward::daemon::testing {
 
-// A gap-free stretch of samples: the pipeline restarts its segmenting at each piece.
+// A gap-free stretch of samples: the pipeline restarts its segmenting (and ends its interval) at
+// each piece.
 struct Piece {
   std::vector<double> samples;
   std::int64_t first_ns = 0;
@@ -143,15 +144,26 @@ inline std::vector<ExpectedRecord> ExpectedRecords(const std::vector<Piece>& pie
     records.push_back(std::move(r));
   };
 
+  // No average spans a gap: at each restart the interval in progress ends with the piece (a
+  // shorter record), or, holding no whole segment, is dropped.
   std::size_t done = 0;
-  while (done + per_average <= segments.size()) {
-    const Segment& last = segments[done + per_average - 1];
-    const std::size_t end_local = last.start + length;
-    make(done, per_average, offset[last.piece] + end_local, last.piece, end_local);
-    done += per_average;
-  }
-  if (flush && done < segments.size()) {
-    make(done, segments.size() - done, all.size(), pieces.size() - 1, pieces.back().samples.size());
+  for (std::size_t p = 0; p < pieces.size(); ++p) {
+    std::size_t end = done;
+    while (end < segments.size() && segments[end].piece == p) ++end;
+    while (done + per_average <= end) {
+      const Segment& last = segments[done + per_average - 1];
+      const std::size_t end_local = last.start + length;
+      make(done, per_average, offset[last.piece] + end_local, last.piece, end_local);
+      done += per_average;
+    }
+    const bool restarted_after = p + 1 < pieces.size();
+    const std::size_t size = pieces[p].samples.size();
+    if (done < end && (restarted_after || flush)) {
+      make(done, end - done, offset[p] + size, p, size);
+      done = end;
+    } else if (restarted_after) {
+      previous_end = offset[p + 1];
+    }
   }
   return records;
 }

@@ -6,15 +6,18 @@
 // time, not the daemon's clock: a replayed recording gives the same records as the live stream.
 // Indicators cover the samples up to the end of the interval's last segment; each block is split at
 // that point so the time-domain and spectral figures of a record describe the same stretch of
-// signal. A sequence gap or a time jump restarts the segmenting (no segment spans a gap); a block
-// at another sample rate, or holding NaN/Inf, is rejected and counted. Thread-safety: one thread at
+// signal. A sequence gap or a time jump ends the interval in progress early (a shorter record) and
+// restarts the segmenting, so no segment and no average spans a gap; a block at another sample
+// rate, or holding NaN/Inf, is rejected and counted. Thread-safety: one thread at
 // a time per pipeline (the router runs each point on its own strand).
 #pragma once
 
 #include <atomic>
 #include <cstdint>
+#include <limits>
 #include <memory>
 #include <optional>
+#include <span>
 #include <string>
 #include <vector>
 
@@ -37,6 +40,8 @@ struct PointSettings {
   estimators::Unit sample_unit = estimators::Unit::kMetresPerSecondSquared;
   std::optional<estimators::Sensitivity> sensitivity;  // needed when blocks arrive in volts
   std::int64_t time_jump_tolerance_ns = 1'000'000;     // 1 ms; common practice, no source
+  // Samples at or beyond +-clip_level (sample units) are counted for the clipping check.
+  std::optional<double> clip_level;
 
   Status Validate() const;
   bool operator==(const PointSettings&) const = default;
@@ -86,6 +91,8 @@ class ChannelPipeline {
   ChannelPipeline(PointSettings settings, estimators::StreamingWelch welch,
                   std::shared_ptr<RecordSink> sink);
   void Restart(const SampleBlock& block);
+  void NoteRejected(const SampleBlock& block);
+  void CountSensorFacts(std::span<const double> piece);
   std::size_t SamplesUntilAverageCompletes() const;
   void Emit(estimators::AveragedSpectrum spectrum, std::int64_t end_ns);
   std::int64_t TimeOfRunSample(std::uint64_t index) const;
@@ -102,6 +109,13 @@ class ChannelPipeline {
   std::int64_t run_start_ns_ = 0;
   std::uint64_t run_samples_ = 0;
   std::uint64_t last_sequence_ = 0;
+  bool lost_block_ = false;  // a block was rejected since the last one used
+  // Sensor-check facts of the interval in progress.
+  double previous_sample_ = std::numeric_limits<double>::quiet_NaN();
+  std::size_t identical_run_ = 0;
+  std::size_t longest_identical_run_ = 0;
+  std::size_t clipped_samples_ = 0;
+  std::size_t interval_gaps_ = 0;
   std::int64_t interval_start_ns_ = 0;
   bool interval_open_ = false;
   std::optional<estimators::AveragedSpectrum> completed_;

@@ -34,7 +34,7 @@ struct MeasurementRecord {
   // Facts for the sensor checks, counted by the pipeline over this interval's samples.
   std::size_t clipped_samples = 0;        // at or beyond the point's clip level (0 when none is set)
   std::size_t longest_identical_run = 0;  // longest run of equal consecutive samples
-  std::size_t sequence_gaps = 0;          // frames lost (or time jumps) inside the interval
+  std::size_t sequence_gaps = 0;          // frames lost (or rejected) inside the interval
   bool sensor_fault = false;           // set when the sensor checks failed: kept out of baselines
   std::string sensor_fault_reason;     // empty unless sensor_fault
 };
