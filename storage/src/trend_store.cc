@@ -1,4 +1,5 @@
 #include "spinward/storage/trend_store.h"
+#include <algorithm>
 
 #include <cmath>
 #include <filesystem>
@@ -445,7 +446,13 @@ WriteOutcome TrendStore::Write(const WriteBatch& batch) {
       std::int64_t last = has_last ? st[7].Int(0) : 0;
       st[7].Reset();
       if (rc != SQLITE_ROW) return fail(rc, "finding the latest spectrum: " + s.db.ErrorMessage());
-      if (!has_last || r.interval_start_ns - last >= s.options.spectrum_spacing_ns) {
+      // Spectra are kept every spectrum_spacing_ns, and with every alarm transition the record
+      // caused (an event of its point in the same batch), so the evidence of a change is at hand.
+      const bool caused_transition =
+          std::any_of(batch.events.begin(), batch.events.end(),
+                      [&](const AlarmEventRecord& e) { return e.point_id == r.point_id; });
+      if (!has_last || caused_transition ||
+          r.interval_start_ns - last >= s.options.spectrum_spacing_ns) {
         SpectrumSnapshot snapshot{
             r.spectrum,
             r.sample_unit.empty()

@@ -112,6 +112,37 @@ TEST(SpectrumBlob, EmptyOrRatelessSpectrumIsRefused) {
   EXPECT_NE(EncodeSpectrumBlob(no_rate).message().find("sample_rate_hz 0"), std::string::npos);
 }
 
+TEST(SpectrumStore, AlarmTransitionKeepsTheSpectrumWhateverTheSpacing) {
+  // The evidence of a change is kept: a record that comes with an alarm event of its point is
+  // stored with its spectrum even ten minutes after the last hourly snapshot.
+  auto path = spinward::testing::FreshTempDir("spectra-alarm") / "larkfield.db";
+  StoreOptions options;
+  options.spectrum_spacing_ns = 3600LL * 1000000000LL;
+  auto store = TrendStore::Open(path.string(), options);
+  ASSERT_TRUE(store.ok()) << store.message();
+  for (int i = 0; i < 2; ++i) {
+    WriteBatch batch;
+    auto r = testing::VelocityRecord(testing::kBaseNs + i * testing::kTenMinNs, 2.0 + i);
+    r.spectrum = Snapshot().spectrum;
+    batch.records.push_back(r);
+    if (i == 1) {
+      AlarmEventRecord event;
+      event.event_id = "lf-transition";
+      event.time_ns = r.interval_end_ns;
+      event.point_id = r.point_id;
+      event.measure = "velocity_rms_10_1000";
+      event.from_state = "normal";
+      event.to_state = "alert";
+      event.value = 3.0;
+      event.message = "test";
+      batch.events.push_back(event);
+    }
+    ASSERT_TRUE(store->Write(batch).status.ok());
+  }
+  testing::RawConnection raw(path);
+  EXPECT_EQ(raw.Int("SELECT count(*) FROM spectra"), 2);
+}
+
 TEST(SpectrumStore, LatestSnapshotRespectsSpacing) {
   auto path = spinward::testing::FreshTempDir("spectra") / "larkfield.db";
   StoreOptions options;
