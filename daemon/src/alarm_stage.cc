@@ -180,6 +180,34 @@ void AlarmStage::Consume(const storage::MeasurementRecord& incoming) {
   SubmitLocked(std::move(batch));
 }
 
+Status AlarmStage::Reconfigure(const std::vector<PointJudgement>& points) {
+  AlarmEngine next;
+  std::map<std::string, SensorHealthOptions> sensor_options;
+  std::map<std::string, std::string> units;
+  for (const auto& point : points) {
+    if (Status s = point.sensor.Validate(); !s.ok()) {
+      return Status::Fail("point " + point.point_id + ": sensor checks: " + s.message());
+    }
+    sensor_options[point.point_id] = point.sensor;
+    for (const auto& rule : point.rules) {
+      if (Status s = next.AddRule(rule); !s.ok()) {
+        return Status::Fail("point " + point.point_id + ": alarm on " + rule.measure + ": " +
+                            s.message());
+      }
+      units[Key(rule.point_id, rule.measure)] = rule.unit;
+    }
+  }
+  std::lock_guard lock(mutex_);
+  for (const auto& snapshot : engine_.Snapshots()) {
+    if (!next.State(snapshot.point_id, snapshot.measure).ok()) continue;  // rule removed
+    next.Restore(snapshot).IgnoreError();  // a snapshot the new rule cannot take starts afresh
+  }
+  engine_ = std::move(next);
+  sensor_options_ = std::move(sensor_options);
+  units_ = std::move(units);
+  return Status::Ok();
+}
+
 void AlarmStage::CheckStale(std::int64_t now_ns) {
   std::lock_guard lock(mutex_);
   storage::WriteBatch batch;

@@ -12,6 +12,7 @@
 #include "daemon_logging.h"
 #include "log_sink.h"
 #include "option_reader.h"
+#include "spinward/config/site_diff.h"
 #include "spinward/config/site_loader.h"
 #include "spinward/daemon/json_lines_sink.h"
 #include "spinward/daemon/monitoring_service.h"
@@ -158,9 +159,17 @@ int CommandRun(const Arguments& args) {
         LogLine("error", "reload refused: " + *config_path +
                              " is not valid; the running configuration stays");
       } else {
+        if (config::DiffSites((*service)->site(), next.site).storage_changed) {
+          LogLine("warn", "reload: storage settings changed; they take effect at the next start");
+        }
         auto summary = (*service)->Reload(next.site);
         if (!summary.ok()) {
           LogLine("error", "reload refused: " + summary.message());
+        } else if (Status alarms = (*backend)->Reconfigure(next.site); !alarms.ok()) {
+          LogLine("error",
+                  "reload: points reloaded but the alarm rules were refused (the old ones "
+                  "stay): " +
+                      alarms.message());
         } else {
           LogLine("info", "reloaded: " + std::to_string(summary->kept.size()) + " points kept, " +
                               std::to_string(summary->restarted.size()) + " restarted, " +

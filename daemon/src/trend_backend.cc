@@ -88,6 +88,12 @@ void TrendBackend::ApplyNewAcknowledgements() {
   }
 }
 
+Status TrendBackend::Reconfigure(const config::SiteConfig& site) {
+  auto judgements = JudgementsFromSite(site);
+  if (!judgements.ok()) return Status::Fail(judgements.message());
+  return stage_->Reconfigure(*judgements);
+}
+
 void TrendBackend::Tick(std::int64_t now_ns) {
   if (stopped_) return;
   stage_->CheckStale(now_ns);

@@ -31,6 +31,8 @@ class TrendBackend {
   std::shared_ptr<RecordSink> Sink() const { return stage_; }
   // Stale checks and acknowledgements; call every few seconds with the wall clock.
   void Tick(std::int64_t now_ns);
+  // New alarm rules and sensor checks from a reloaded site; alarms keep their states.
+  Status Reconfigure(const config::SiteConfig& site);
   // Writes everything queued (waits up to `timeout`), then stops the writer.
   void Stop(std::chrono::milliseconds timeout = std::chrono::seconds(30));
   storage::WriterCounters Counters() const { return writer_->counters(); }

@@ -64,6 +64,10 @@ class AlarmStage final : public RecordSink {
       TransitionListener on_transition = {});
 
   void Consume(const storage::MeasurementRecord& record) override;
+  // A reloaded configuration: the new rules replace the old; an alarm whose point and measure are
+  // still configured keeps its state (latch, acknowledgement, on-delay history) under the new
+  // limits. Fails, changing nothing, when a rule or sensor check is invalid.
+  Status Reconfigure(const std::vector<PointJudgement>& points);
   // Raises "stale" for points with no data for longer than their rules allow.
   void CheckStale(std::int64_t now_ns);
   // An operator's acknowledgement (measure empty: every measure of the point).
