@@ -2,6 +2,7 @@
 
 #include <chrono>
 #include <cmath>
+#include <limits>
 #include <random>
 
 #include "alarm_snapshot_text.h"
@@ -15,27 +16,15 @@ std::string Key(const std::string& point, const std::string& measure) {
 }
 
 std::string JsonString(const std::string& text) {
-  std::string out = "\"";
-  for (char c : text) {
-    if (c == '"' || c == '\\') {
-      out += '\\';
-      out += c;
-    } else if (static_cast<unsigned char>(c) < 0x20) {
-      char buffer[8];
-      std::snprintf(buffer, sizeof buffer, "\\u%04x", c);
-      out += buffer;
-    } else {
-      out += c;
-    }
-  }
-  return out + "\"";
+  std::string out;
+  AppendJsonString(out, text);
+  return out;
 }
 
 std::string JsonNumber(std::optional<double> value) {
-  if (!value || !std::isfinite(*value)) return "null";
-  char buffer[32];
-  std::snprintf(buffer, sizeof buffer, "%.10g", *value);
-  return buffer;
+  std::string out;
+  AppendJsonNumber(out, value.value_or(std::numeric_limits<double>::quiet_NaN()));
+  return out;
 }
 
 }  // namespace

@@ -6,9 +6,7 @@
 #include <ctime>
 
 namespace spinward::daemon {
-namespace {
-
-void AppendNumber(std::string& out, double value) {
+void AppendJsonNumber(std::string& out, double value) {
   if (!std::isfinite(value)) {  // JSON has no NaN: a missing value is null
     out += "null";
     return;
@@ -18,7 +16,7 @@ void AppendNumber(std::string& out, double value) {
   out += buffer;
 }
 
-void AppendString(std::string& out, const std::string& text) {
+void AppendJsonString(std::string& out, const std::string& text) {
   out += '"';
   for (char c : text) {
     if (c == '"' || c == '\\') {
@@ -34,8 +32,6 @@ void AppendString(std::string& out, const std::string& text) {
   }
   out += '"';
 }
-
-}  // namespace
 
 std::string FormatUtc(std::int64_t ns) {
   std::time_t seconds = static_cast<std::time_t>(ns / 1'000'000'000);
@@ -56,57 +52,57 @@ std::string RecordToJson(const storage::MeasurementRecord& r, bool with_spectrum
   std::string out;
   out.reserve(with_spectrum ? 16 * r.spectrum.values.size() + 512 : 512);
   out += "{\"schema\":1,\"point\":";
-  AppendString(out, r.point_id);
+  AppendJsonString(out, r.point_id);
   out += ",\"start\":\"" + FormatUtc(r.interval_start_ns) + "\",\"end\":\"" +
          FormatUtc(r.interval_end_ns) + "\"";
   out += ",\"start_ns\":" + std::to_string(r.interval_start_ns) +
          ",\"end_ns\":" + std::to_string(r.interval_end_ns);
   out += ",\"segments\":" + std::to_string(r.segment_count);
   out += ",\"sample_unit\":";
-  AppendString(out, r.sample_unit);
+  AppendJsonString(out, r.sample_unit);
   const auto& i = r.indicators;
   out += ",\"indicators\":{\"mean\":";
-  AppendNumber(out, i.mean);
+  AppendJsonNumber(out, i.mean);
   out += ",\"rms\":";
-  AppendNumber(out, i.rms);
+  AppendJsonNumber(out, i.rms);
   out += ",\"peak\":";
-  AppendNumber(out, i.peak);
+  AppendJsonNumber(out, i.peak);
   out += ",\"peak_to_peak\":";
-  AppendNumber(out, i.peak_to_peak);
+  AppendJsonNumber(out, i.peak_to_peak);
   out += ",\"crest_factor\":";
-  AppendNumber(out, i.crest_factor);
+  AppendJsonNumber(out, i.crest_factor);
   out += ",\"kurtosis\":";
-  AppendNumber(out, i.kurtosis);
+  AppendJsonNumber(out, i.kurtosis);
   out += ",\"samples\":" + std::to_string(i.count) + "}";
   out += ",\"bands\":[";
   for (std::size_t b = 0; b < r.bands.size(); ++b) {
     if (b) out += ',';
     out += "{\"name\":";
-    AppendString(out, r.bands[b].name);
+    AppendJsonString(out, r.bands[b].name);
     out += ",\"lo_hz\":";
-    AppendNumber(out, r.bands[b].lo_hz);
+    AppendJsonNumber(out, r.bands[b].lo_hz);
     out += ",\"hi_hz\":";
-    AppendNumber(out, r.bands[b].hi_hz);
+    AppendJsonNumber(out, r.bands[b].hi_hz);
     out += ",\"rms\":";
-    AppendNumber(out, r.bands[b].rms);
+    AppendJsonNumber(out, r.bands[b].rms);
     out += ",\"unit\":";
-    AppendString(out, r.bands[b].unit);
+    AppendJsonString(out, r.bands[b].unit);
     out += '}';
   }
   out += ']';
   if (r.sensor_fault) {
     out += ",\"sensor_fault\":";
-    AppendString(out, r.sensor_fault_reason);
+    AppendJsonString(out, r.sensor_fault_reason);
   }
   if (with_spectrum && !r.spectrum.values.empty()) {
     out += ",\"spectrum\":{\"bin_width_hz\":";
-    AppendNumber(out, r.spectrum.BinWidthHz());
+    AppendJsonNumber(out, r.spectrum.BinWidthHz());
     out += ",\"unit\":";
-    AppendString(out, r.sample_unit + "^2/Hz");
+    AppendJsonString(out, r.sample_unit + "^2/Hz");
     out += ",\"values\":[";
     for (std::size_t k = 0; k < r.spectrum.values.size(); ++k) {
       if (k) out += ',';
-      AppendNumber(out, r.spectrum.values[k]);
+      AppendJsonNumber(out, r.spectrum.values[k]);
     }
     out += "]}";
   }

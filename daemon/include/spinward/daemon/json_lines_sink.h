@@ -17,6 +17,10 @@ namespace spinward::daemon {
 
 // One record as a JSON object on one line (no trailing newline).
 std::string RecordToJson(const storage::MeasurementRecord& record, bool with_spectrum);
+// JSON text pieces: a quoted, escaped string; a number with 10 significant digits, or null when
+// not finite (JSON has no NaN).
+void AppendJsonString(std::string& out, const std::string& text);
+void AppendJsonNumber(std::string& out, double value);
 // UTC ISO 8601 with milliseconds, e.g. "2026-12-01T06:00:00.000Z".
 std::string FormatUtc(std::int64_t ns_since_epoch);
 
