@@ -99,6 +99,9 @@ class Daemon {
     posix_spawn_file_actions_init(&actions);
     posix_spawn_file_actions_addopen(&actions, 1, log_.c_str(), O_WRONLY | O_CREAT | O_TRUNC, 0644);
     posix_spawn_file_actions_adddup2(&actions, 1, 2);
+    // Each daemon in its own folder: the site's relative storage path lands there, not in a
+    // database shared by tests running side by side.
+    posix_spawn_file_actions_addchdir_np(&actions, dir.c_str());
     EXPECT_EQ(posix_spawn(&pid_, argv[0], &actions, nullptr, argv.data(), environ), 0);
     posix_spawn_file_actions_destroy(&actions);
   }
