@@ -6,6 +6,7 @@
 #include <string_view>
 
 #include "commands.h"
+#include "site_judgement.h"
 #include "spinward/config/point_options.h"
 #include "spinward/config/site_loader.h"
 
@@ -119,6 +120,12 @@ int CommandCheckConfig(const Arguments& args) {
     }
     std::fprintf(stderr, "%s: %zu problem%s; the site was not loaded\n", args[0].c_str(),
                  loaded.problems.size(), loaded.problems.size() == 1 ? "" : "s");
+    return 1;
+  }
+  // The alarm rules as the daemon will build them: catches what needs the ISO tables (a low limit
+  // above a preset's alert), which the loader does not know.
+  if (auto judgements = JudgementsFromSite(loaded.site); !judgements.ok()) {
+    std::fprintf(stderr, "%s: alarms: %s\n", args[0].c_str(), judgements.message().c_str());
     return 1;
   }
   PrintSummary(args[0], loaded.site);
