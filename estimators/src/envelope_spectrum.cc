@@ -240,4 +240,55 @@ Result<std::vector<HarmonicLine>> FindHarmonicLines(const AveragedSpectrum& spec
   return lines;
 }
 
+Result<SpectralKurtosis> ComputeSpectralKurtosis(std::span<const double> block,
+                                                 double sample_rate_hz, std::size_t frame_length,
+                                                 std::size_t hop) {
+  if (!std::isfinite(sample_rate_hz) || sample_rate_hz <= 0.0) {
+    return Error{"sample_rate_hz " + Num(sample_rate_hz) + " must be finite and positive"};
+  }
+  if (frame_length < 4) {
+    return Error{"frame_length " + std::to_string(frame_length) + " must be at least 4"};
+  }
+  if (hop == 0 || hop > frame_length) {
+    return Error{"hop " + std::to_string(hop) + " must be in [1, frame_length " +
+                 std::to_string(frame_length) + "]"};
+  }
+  if (block.size() < frame_length + hop) {
+    return Error{"block of " + std::to_string(block.size()) + " samples holds fewer than 2 frames"};
+  }
+  for (std::size_t i = 0; i < block.size(); ++i) {
+    if (!std::isfinite(block[i])) {
+      return Error{"sample " + std::to_string(i) + " is " + Num(block[i]) + ", not finite"};
+    }
+  }
+  Result<Window> window = Window::Make(WindowSpec{}, frame_length);  // periodic Hann
+  if (!window.ok()) return window.status();
+  const std::span<const double> w = window->coefficients();
+
+  RealTransform transform(frame_length);
+  const std::size_t bins = frame_length / 2 + 1;
+  std::vector<double> sum2(bins, 0.0);
+  std::vector<double> sum4(bins, 0.0);
+  SpectralKurtosis result;
+  result.sample_rate_hz = sample_rate_hz;
+  result.frame_length = frame_length;
+  for (std::size_t start = 0; start + frame_length <= block.size(); start += hop) {
+    for (std::size_t i = 0; i < frame_length; ++i) transform.input()[i] = block[start + i] * w[i];
+    transform.Run();
+    for (std::size_t k = 0; k < bins; ++k) {
+      const double p = std::norm(transform.output()[k]);
+      sum2[k] += p;
+      sum4[k] += p * p;
+    }
+    ++result.frames;
+  }
+  // SK = (sum4 / K) / (sum2 / K)^2 - 2 = K sum4 / sum2^2 - 2.
+  const double frames = static_cast<double>(result.frames);
+  result.values.assign(bins, 0.0);
+  for (std::size_t k = 0; k < bins; ++k) {
+    if (sum2[k] > 0.0) result.values[k] = frames * sum4[k] / (sum2[k] * sum2[k]) - 2.0;
+  }
+  return result;
+}
+
 }  // namespace spinward::estimators

@@ -190,3 +190,67 @@ TEST(EnvelopeSpectrum, RejectsBadOptionsNamingTheField) {
 
 }  // namespace
 }  // namespace spinward::estimators
+
+namespace spinward::estimators {
+namespace {
+
+TEST(SpectralKurtosis, SteadyToneIsMinusOneAndGaussianNoiseNearZero) {
+  // Antoni (MSSP 20, 2006): a stationary tone has |X| constant over frames, so
+  // <|X|^4>/<|X|^2>^2 = 1 and SK = -1; circular Gaussian |X|^2 is exponential, <|X|^4> = 2
+  // <|X|^2>^2, SK = 0.
+  constexpr double kFs = 4096.0;
+  std::vector<double> x(65536);
+  std::mt19937 rng(7);
+  std::normal_distribution<double> noise(0.0, 1.0);
+  for (std::size_t i = 0; i < x.size(); ++i) {
+    // The tone at 512 Hz is 100 times the noise amplitude: its bin is the tone's.
+    x[i] = 100.0 * std::cos(2.0 * kPi * 512.0 * static_cast<double>(i) / kFs) + noise(rng);
+  }
+  Result<SpectralKurtosis> sk = ComputeSpectralKurtosis(x, kFs, 256, 128);
+  ASSERT_TRUE(sk.ok()) << sk.message();
+  EXPECT_EQ(sk->frames, 511u);  // (65536 - 256) / 128 + 1
+  EXPECT_EQ(sk->FrequencyHz(32), 512.0);
+  EXPECT_NEAR(sk->values[32], -1.0, 0.01);  // noise perturbs |X| by about 1e-3 of the tone's
+  // Noise bins away from the tone's lobe: the mean over ~80 bins of SK estimates from 511 frames
+  // scatters by about sqrt(4/511)/sqrt(80) = 0.01 (variance of the SK estimate ~4/K, from memory).
+  double mean = 0.0;
+  int count = 0;
+  for (std::size_t k = 40; k < 120; ++k, ++count) mean += sk->values[k];
+  mean /= count;
+  EXPECT_NEAR(mean, 0.0, 0.05);
+}
+
+TEST(SpectralKurtosis, PicksTheResonanceThatTheFaultRings) {
+  // The synthetic fault rings a 3 kHz resonance; the largest SK must fall in the band around it,
+  // and the healthy signal's SK there stays near 0.
+  Result<SpectralKurtosis> fault =
+      ComputeSpectralKurtosis(PumpBearingSignal(true, 20261202), 25600.0, 128, 32);
+  ASSERT_TRUE(fault.ok()) << fault.message();
+  std::size_t best = 1;
+  for (std::size_t k = 1; k + 1 < fault->values.size(); ++k) {
+    if (fault->values[k] > fault->values[best]) best = k;
+  }
+  EXPECT_GT(fault->FrequencyHz(best), 2000.0);
+  EXPECT_LT(fault->FrequencyHz(best), 4000.0);
+  Result<SpectralKurtosis> healthy =
+      ComputeSpectralKurtosis(PumpBearingSignal(false, 1), 25600.0, 128, 32);
+  ASSERT_TRUE(healthy.ok()) << healthy.message();
+  const std::size_t resonance_bin = 15;  // 3000 Hz / 200 Hz bins
+  // Measured: fault 0.65 at 3 kHz (also its maximum), healthy 0.00. SK from ~3200 overlapping
+  // frames scatters by a few hundredths on noise (variance ~4/K, from memory), so 0.4 and +-0.2
+  // leave wide margins both ways. Frames of 5 ms are shorter than the 11.2 ms between impacts: SK
+  // needs frames with and without an impact (longer frames, e.g. 10 ms, measured about 0 here).
+  EXPECT_GT(fault->values[resonance_bin], 0.4);
+  EXPECT_NEAR(healthy->values[resonance_bin], 0.0, 0.2);
+}
+
+TEST(SpectralKurtosis, RejectsBadFramesNamingTheField) {
+  std::vector<double> x(1000, 1.0);
+  EXPECT_THAT(ComputeSpectralKurtosis(x, 1000.0, 2, 1).message(), HasSubstr("frame_length 2"));
+  EXPECT_THAT(ComputeSpectralKurtosis(x, 1000.0, 256, 300).message(), HasSubstr("hop 300"));
+  EXPECT_THAT(ComputeSpectralKurtosis(x, 1000.0, 800, 400).message(),
+              HasSubstr("block of 1000 samples holds fewer than 2 frames"));
+}
+
+}  // namespace
+}  // namespace spinward::estimators

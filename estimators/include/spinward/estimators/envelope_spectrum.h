@@ -78,4 +78,25 @@ struct HarmonicLine {
 Result<std::vector<HarmonicLine>> FindHarmonicLines(const AveragedSpectrum& spectrum,
                                                     const LineSearch& search);
 
+// Spectral kurtosis, to choose the demodulation band (Antoni, MSSP 20, 2006): over STFT frames
+// (Hann window, frame_length samples, hop samples apart), SK(f) = <|X|^4> / <|X|^2>^2 - 2. About 0
+// for Gaussian noise, -1 for a steady tone, large where impacts come and go. The DC and Nyquist
+// bins of real noise are real-valued and sit at 1 instead of 0. A bin with no energy gets 0.
+struct SpectralKurtosis {
+  std::vector<double> values;  // frame_length / 2 + 1 bins
+  double sample_rate_hz = 0.0;
+  std::size_t frame_length = 0;
+  std::size_t frames = 0;
+
+  double FrequencyHz(std::size_t bin) const {
+    return static_cast<double>(bin) * sample_rate_hz / static_cast<double>(frame_length);
+  }
+};
+
+// Rejects non-finite samples, frame_length < 4, hop 0 or hop > frame_length, and a block holding
+// fewer than 2 frames.
+Result<SpectralKurtosis> ComputeSpectralKurtosis(std::span<const double> block,
+                                                 double sample_rate_hz, std::size_t frame_length,
+                                                 std::size_t hop);
+
 }  // namespace spinward::estimators
