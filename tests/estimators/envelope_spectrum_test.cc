@@ -2,13 +2,19 @@
 // 2011) on signals whose envelope is known on paper, and on a synthetic bearing fault.
 #include "spinward/estimators/envelope_spectrum.h"
 
+#include "support/test_paths.h"
+
 #include <gmock/gmock.h>
 #include <gtest/gtest.h>
 
 #include <algorithm>
 #include <cmath>
+#include <filesystem>
+#include <fstream>
 #include <numbers>
 #include <random>
+#include <sstream>
+#include <string>
 #include <vector>
 
 namespace spinward::estimators {
@@ -36,6 +42,45 @@ TEST(AnalyticBandSignal, CosineInBandBecomesUnitPhasorAndOutOfBandIsRemoved) {
     const double t = static_cast<double>(i) / kFs;
     ASSERT_NEAR((*z)[i].real(), std::cos(2.0 * kPi * 600.0 * t), 1e-9) << i;
     ASSERT_NEAR((*z)[i].imag(), std::sin(2.0 * kPi * 600.0 * t), 1e-9) << i;
+  }
+}
+
+TEST(AnalyticBandSignal, FullBandMatchesScipyHilbert) {
+  // With the band [0, fs/2] the analytic band signal is the analytic signal of the whole block,
+  // which scipy.signal.hilbert computes the same way (Debian's SciPy, /usr/bin/python3). Even and
+  // odd lengths (Nyquist bin or none), tones off the bins and noise.
+  for (std::size_t n : {1024u, 1001u}) {
+    std::vector<double> x(n);
+    std::mt19937 rng(static_cast<unsigned>(n));
+    std::normal_distribution<double> noise(0.0, 1.0);
+    for (std::size_t i = 0; i < n; ++i) {
+      const double t = static_cast<double>(i) / 1000.0;
+      x[i] = 0.3 + std::sin(2.0 * kPi * 123.4 * t) + 0.5 * std::cos(2.0 * kPi * 401.7 * t) +
+             noise(rng);
+    }
+    const std::filesystem::path dir = testing::FreshTempDir("analytic_" + std::to_string(n));
+    {
+      std::ofstream out(dir / "x.txt");
+      out.precision(17);
+      for (double v : x) out << v << "\n";
+    }
+    const std::string script =
+        "import sys, numpy as np, scipy.signal as s; z = s.hilbert(np.loadtxt(sys.argv[1])); "
+        "[print(repr(float(v.real)), repr(float(v.imag))) for v in z]";
+    testing::CommandResult python = testing::RunCommand(testing::ReferencePython() + " -c '" +
+                                                        script + "' " + (dir / "x.txt").string());
+    ASSERT_EQ(python.exit_code, 0) << python.output << python.error_output;
+    std::istringstream lines(python.output);
+    Result<std::vector<std::complex<double>>> z = AnalyticBandSignal(x, 1000.0, 0.0, 500.0);
+    ASSERT_TRUE(z.ok()) << z.message();
+    ASSERT_EQ(z->size(), n);
+    for (std::size_t i = 0; i < n; ++i) {
+      double re = 0.0;
+      double im = 0.0;
+      ASSERT_TRUE(lines >> re >> im) << "SciPy output ended at " << i;
+      ASSERT_NEAR((*z)[i].real(), re, 1e-9) << "n " << n << " sample " << i;
+      ASSERT_NEAR((*z)[i].imag(), im, 1e-9) << "n " << n << " sample " << i;
+    }
   }
 }
 
