@@ -1,0 +1,101 @@
+#include "metrics_text.h"
+
+#include <cstdint>
+#include <string_view>
+
+namespace spinward::daemon {
+
+namespace {
+
+// Label values escape backslash, double quote and line feed; HELP text escapes backslash and line
+// feed (the 0.0.4 text format's two escaping rules).
+std::string Escape(std::string_view text, bool quote) {
+  std::string out;
+  out.reserve(text.size());
+  for (char c : text) {
+    if (c == '\\') {
+      out += "\\\\";
+    } else if (c == '\n') {
+      out += "\\n";
+    } else if (c == '"' && quote) {
+      out += "\\\"";
+    } else {
+      out += c;
+    }
+  }
+  return out;
+}
+
+void Family(std::string& out, std::string_view name, std::string_view type, std::string_view help) {
+  out += "# HELP ";
+  out += name;
+  out += ' ';
+  out += Escape(help, false);
+  out += "\n# TYPE ";
+  out += name;
+  out += ' ';
+  out += type;
+  out += '\n';
+}
+
+void Sample(std::string& out, std::string_view name, std::uint64_t value,
+            std::string_view label = {}, std::string_view label_value = {}) {
+  out += name;
+  if (!label.empty()) {
+    out += '{';
+    out += label;
+    out += "=\"";
+    out += Escape(label_value, true);
+    out += "\"}";
+  }
+  out += ' ';
+  out += std::to_string(value);
+  out += '\n';
+}
+
+void Counter(std::string& out, std::string_view name, std::string_view help, std::uint64_t value) {
+  Family(out, name, "counter", help);
+  Sample(out, name, value);
+}
+
+void Gauge(std::string& out, std::string_view name, std::string_view help, std::uint64_t value) {
+  Family(out, name, "gauge", help);
+  Sample(out, name, value);
+}
+
+}  // namespace
+
+std::string RenderMetricsText(const HealthSnapshot& s) {
+  std::string out;
+  Counter(out, "spinward_frames_received_total", "Frames received and decoded by all listeners.",
+          s.sources.frames);
+  Counter(out, "spinward_bytes_received_total", "Bytes received by all listeners.",
+          s.sources.bytes);
+
+  constexpr std::string_view kBad = "spinward_bad_frames_total";
+  Family(out, kBad, "counter", "Frames rejected as malformed, by reason.");
+  std::uint64_t by_reason = 0;
+  for (const auto& [reason, count] : s.sources.bad_frames_by_reason) {
+    Sample(out, kBad, count, "reason", reason);
+    by_reason += count;
+  }
+  // A source that counts bad frames without a reason still shows up, so the family sums to the
+  // total.
+  if (s.sources.bad_frames > by_reason)
+    Sample(out, kBad, s.sources.bad_frames - by_reason, "reason", "unspecified");
+
+  Counter(out, "spinward_dropped_frames_total",
+          "Frames dropped because a point's queue was full (UDP; TCP pauses instead).",
+          s.sources.dropped_full);
+  Counter(out, "spinward_segments_total", "Welch segments processed over all points.",
+          s.router.segments);
+  Counter(out, "spinward_records_total", "Measurement records produced over all points.",
+          s.router.records);
+  Gauge(out, "spinward_queue_depth_samples", "Samples queued for the point pipelines now.",
+        s.router.queued_samples);
+  Gauge(out, "spinward_storage_backlog_items",
+        "Records accepted by the storage writer and not yet written.", s.storage_backlog_items);
+  return out;
+}
+
+}  // namespace spinward::daemon
