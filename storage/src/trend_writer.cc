@@ -129,8 +129,14 @@ void TrendWriter::Shared::Run() {
     auto deadline = Clock::now() + std::chrono::hours(1);
     if (!queue.empty()) deadline = std::max(retry_at, first_queued + options.max_batch_delay);
     if (options.prune_every.count() > 0) deadline = std::min(deadline, next_prune);
+    // A batch queued while we sleep can be due before `deadline` (computed when the queue was
+    // empty): wake up to recompute it, or commits would wait for the next prune or for stop.
+    auto due_earlier = [&] {
+      return !queue.empty() &&
+             std::max(retry_at, first_queued + options.max_batch_delay) < deadline;
+    };
     wake.wait_until(lock, deadline, [&] {
-      return stopping || !tasks.empty() || batch_due() ||
+      return stopping || !tasks.empty() || batch_due() || due_earlier() ||
              (options.prune_every.count() > 0 && Clock::now() >= next_prune);
     });
 
