@@ -2,6 +2,7 @@
 
 #include <boost/asio/io_context.hpp>
 #include <boost/asio/ip/tcp.hpp>
+#include <boost/asio/post.hpp>
 #include <boost/beast/core/flat_buffer.hpp>
 #include <boost/beast/core/tcp_stream.hpp>
 #include <boost/beast/http.hpp>
@@ -9,6 +10,7 @@
 #include <optional>
 #include <thread>
 #include <utility>
+#include <vector>
 
 #include "metrics_text.h"
 #include "spinward/daemon/json_lines_sink.h"
@@ -125,6 +127,13 @@ class Session : public std::enable_shared_from_this<Session> {
         [self = shared_from_this()](beast::error_code ec, std::size_t) { self->OnRead(ec); });
   }
 
+  void Close() {
+    if (!stream_.socket().is_open()) return;
+    beast::error_code ignored;
+    stream_.socket().shutdown(tcp::socket::shutdown_send, ignored);
+    stream_.close();
+  }
+
  private:
   void OnRead(beast::error_code ec) {
     if (ec) {
@@ -140,12 +149,6 @@ class Session : public std::enable_shared_from_this<Session> {
                           self->Read();
                         }
                       });
-  }
-
-  void Close() {
-    beast::error_code ignored;
-    stream_.socket().shutdown(tcp::socket::shutdown_send, ignored);
-    stream_.close();
   }
 
   beast::tcp_stream stream_;
@@ -178,11 +181,17 @@ struct HealthServer::Impl {
   tcp::acceptor acceptor{io};
   std::thread thread;
   std::uint16_t bound_port = 0;
+  std::vector<std::weak_ptr<Session>> sessions;  // touched only on the server thread
 
   void Accept() {
     acceptor.async_accept([this](beast::error_code ec, tcp::socket socket) {
       if (ec == asio::error::operation_aborted || !acceptor.is_open()) return;
-      if (!ec) std::make_shared<Session>(std::move(socket), source)->Read();
+      if (!ec) {
+        std::erase_if(sessions, [](const auto& s) { return s.expired(); });
+        auto session = std::make_shared<Session>(std::move(socket), source);
+        sessions.push_back(session);
+        session->Read();
+      }
       Accept();
     });
   }
@@ -227,12 +236,16 @@ Status HealthServer::Start() {
 
 void HealthServer::Stop() {
   if (!impl_ || !impl_->thread.joinable()) return;
-  // Open sessions end with the io_context's stop; their handlers are destroyed with it. The
-  // acceptor is closed once the thread is gone, so no handler races the close.
-  impl_->io.stop();
+  // Closing the acceptor and every open connection on the server thread cancels all pending
+  // work, so run() returns by itself once the last handler has seen the cancellation.
+  asio::post(impl_->io, [impl = impl_.get()] {
+    boost::system::error_code ignored;
+    impl->acceptor.close(ignored);
+    for (auto& weak : impl->sessions)
+      if (auto session = weak.lock()) session->Close();
+    impl->sessions.clear();
+  });
   impl_->thread.join();
-  boost::system::error_code ignored;
-  impl_->acceptor.close(ignored);
 }
 
 std::uint16_t HealthServer::BoundPort() const { return impl_ ? impl_->bound_port : 0; }

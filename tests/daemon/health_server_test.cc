@@ -2,6 +2,11 @@
 // fetches, prometheus_client's own parser (Debian's python3-prometheus-client) reads /metrics, and
 // Python's json module reads /healthz and /api/points (tests/reference/metrics_parser.py). The
 // server is fed by a fake HealthSource, so every expected figure is the fake's own.
+#include <netinet/in.h>
+#include <poll.h>
+#include <sys/socket.h>
+#include <unistd.h>
+
 #include <gtest/gtest.h>
 
 #include <map>
@@ -213,6 +218,37 @@ TEST_F(HealthServerTest, UnknownPathIs404AndOtherMethodsAre405) {
   EXPECT_EQ(RunClient("status DELETE " + Url("/healthz"))["status"], "405");
   // The server keeps serving after refusing.
   EXPECT_EQ(RunClient("status GET " + Url("/healthz?verbose=1"))["status"], "200");
+}
+
+TEST_F(HealthServerTest, StopClosesAKeptAliveConnection) {
+  // An HTTP/1.1 client keeps its connection open by default (RFC 9112 section 9.3); Stop must
+  // close it rather than leave it open until the server object is destroyed.
+  int fd = ::socket(AF_INET, SOCK_STREAM, 0);
+  ASSERT_GE(fd, 0);
+  sockaddr_in address{};
+  address.sin_family = AF_INET;
+  address.sin_port = htons(server_->BoundPort());
+  address.sin_addr.s_addr = htonl(INADDR_LOOPBACK);
+  ASSERT_EQ(::connect(fd, reinterpret_cast<sockaddr*>(&address), sizeof(address)), 0);
+  const std::string request = "GET /healthz HTTP/1.1\r\nHost: 127.0.0.1\r\n\r\n";
+  ASSERT_EQ(::send(fd, request.data(), request.size(), 0), static_cast<ssize_t>(request.size()));
+  std::string received;
+  char chunk[4096];
+  // Read until the JSON body's closing brace: the whole response is in.
+  while (received.empty() || received.back() != '}') {
+    pollfd p{fd, POLLIN, 0};
+    ASSERT_EQ(::poll(&p, 1, 20000), 1) << "no response; got so far: " << received;
+    ssize_t n = ::recv(fd, chunk, sizeof(chunk), 0);
+    ASSERT_GT(n, 0) << received;
+    received.append(chunk, static_cast<std::size_t>(n));
+  }
+  EXPECT_EQ(received.rfind("HTTP/1.1 200", 0), 0u) << received;
+  server_->Stop();
+  // The 20 s poll is only a guard against hanging; end of stream is expected at once.
+  pollfd p{fd, POLLIN, 0};
+  ASSERT_EQ(::poll(&p, 1, 20000), 1) << "connection still open after Stop";
+  EXPECT_EQ(::recv(fd, chunk, sizeof(chunk), 0), 0);  // orderly end of stream
+  ::close(fd);
 }
 
 TEST(HealthServer, BadAddressAndBusyPortAreClearErrors) {
