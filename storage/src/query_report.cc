@@ -1,4 +1,5 @@
 #include "spinward/storage/query_report.h"
+#include "json_text.h"
 
 #include <cmath>
 #include <cstdio>
@@ -22,38 +23,6 @@ std::string JsonNumber(double v) {
 }
 
 std::string JsonOptional(const std::optional<double>& v) { return v ? JsonNumber(*v) : "null"; }
-
-std::string JsonString(std::string_view text) {
-  std::string out = "\"";
-  for (char c : text) {
-    switch (c) {
-      case '"':
-        out += "\\\"";
-        break;
-      case '\\':
-        out += "\\\\";
-        break;
-      case '\n':
-        out += "\\n";
-        break;
-      case '\r':
-        out += "\\r";
-        break;
-      case '\t':
-        out += "\\t";
-        break;
-      default:
-        if (static_cast<unsigned char>(c) < 0x20) {
-          char buf[8];
-          std::snprintf(buf, sizeof buf, "\\u%04x", static_cast<unsigned>(c));
-          out += buf;
-        } else {
-          out += c;
-        }
-    }
-  }
-  return out + "\"";
-}
 
 // RFC 4180: quote a field holding a comma, quote or line break; double the quotes inside.
 std::string Csv(std::string_view field) {

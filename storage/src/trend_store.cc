@@ -1,6 +1,7 @@
 #include "spinward/storage/trend_store.h"
-#include <algorithm>
+#include "json_text.h"
 
+#include <algorithm>
 #include <cmath>
 #include <filesystem>
 #include <utility>
@@ -23,38 +24,6 @@ std::int64_t FloorTo(std::int64_t t, std::int64_t step) {
   return r < 0 ? t - r - step : t - r;
 }
 
-std::string JsonEscape(std::string_view text) {
-  std::string out;
-  for (char c : text) {
-    switch (c) {
-      case '"':
-        out += "\\\"";
-        break;
-      case '\\':
-        out += "\\\\";
-        break;
-      case '\n':
-        out += "\\n";
-        break;
-      case '\r':
-        out += "\\r";
-        break;
-      case '\t':
-        out += "\\t";
-        break;
-      default:
-        if (static_cast<unsigned char>(c) < 0x20) {
-          char buf[8];
-          std::snprintf(buf, sizeof buf, "\\u%04x", c);
-          out += buf;
-        } else {
-          out += c;
-        }
-    }
-  }
-  return out;
-}
-
 std::string JsonNumber(double v) {
   if (!std::isfinite(v)) return "null";
   char buf[32];
@@ -63,12 +32,12 @@ std::string JsonNumber(double v) {
 }
 
 std::string DefaultOutboxPayload(const AlarmEventRecord& e) {
-  return "{\"type\":\"alarm_event\",\"event_id\":\"" + JsonEscape(e.event_id) +
-         "\",\"time_ns\":" + std::to_string(e.time_ns) + ",\"point\":\"" + JsonEscape(e.point_id) +
-         "\",\"measure\":\"" + JsonEscape(e.measure) + "\",\"from\":\"" + JsonEscape(e.from_state) +
-         "\",\"to\":\"" + JsonEscape(e.to_state) + "\",\"value\":" + JsonNumber(e.value) +
+  return "{\"type\":\"alarm_event\",\"event_id\":" + JsonString(e.event_id) +
+         ",\"time_ns\":" + std::to_string(e.time_ns) + ",\"point\":" + JsonString(e.point_id) +
+         ",\"measure\":" + JsonString(e.measure) + ",\"from\":" + JsonString(e.from_state) +
+         ",\"to\":" + JsonString(e.to_state) + ",\"value\":" + JsonNumber(e.value) +
          ",\"limit\":" + (e.limit ? JsonNumber(*e.limit) : std::string("null")) +
-         ",\"message\":\"" + JsonEscape(e.message) + "\"}";
+         ",\"message\":" + JsonString(e.message) + "}";
 }
 
 // A failed SQL step inside Write: carries SQLite's code so the writer can decide to retry.

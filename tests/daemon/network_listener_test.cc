@@ -106,6 +106,11 @@ struct Daemon {
     service = std::move(created).value();
     if (Status s = service->Start(); !s.ok()) ADD_FAILURE() << s.message();
   }
+  // The service's threads may still log while it stops, so stop it before the log goes away.
+  ~Daemon() { service.reset(); }
+  Daemon(const Daemon&) = delete;
+  Daemon& operator=(const Daemon&) = delete;
+
   std::uint16_t Port(bool tcp) const {
     for (const auto& l : service->Listeners())
       if (l.tcp == tcp) return l.port;
