@@ -9,6 +9,13 @@ packages=(
   libgtest-dev libgmock-dev libbenchmark-dev
   python3 python3-scipy python3-numpy python3-prometheus-client
   sqlite3 clang-format
+  # plant messaging: the client library, a broker and Python's client for the tests, openssl for
+  # the test certificates
+  libmosquitto-dev mosquitto python3-paho-mqtt openssl
+  # readiness and watchdog notifications to systemd
+  libsystemd-dev
+  # the report's browser test
+  chromium
 )
 
 missing=()
