@@ -7,6 +7,7 @@
 #include <string_view>
 
 #include "commands.h"
+#include "option_reader.h"
 #include "spinward/storage/time_text.h"
 #include "spinward/storage/trend_store.h"
 
@@ -30,41 +31,29 @@ Exit status: 0 on success, 2 for a bad option, 1 when nothing could be acknowled
 }  // namespace
 
 int CommandAck(const Arguments& args) {
-  std::string db, point, band, by, note;
-  for (std::size_t i = 0; i < args.size(); ++i) {
-    const std::string& a = args[i];
-    if (a == "--help" || a == "-h") {
-      std::fputs(kUsage.data(), stdout);
-      return 0;
-    }
-    if (!a.starts_with("--")) {
-      if (!point.empty()) {
-        std::fprintf(stderr, "spinward ack: one POINT only, got '%s' and '%s'\n", point.c_str(),
-                     a.c_str());
-        return 2;
-      }
-      point = a;
-      continue;
-    }
-    std::string* target = a == "--db"     ? &db
-                          : a == "--band" ? &band
-                          : a == "--by"   ? &by
-                          : a == "--note" ? &note
-                                          : nullptr;
-    if (target == nullptr) {
-      std::fprintf(stderr, "spinward ack: unknown option '%s' (spinward ack --help)\n", a.c_str());
-      return 2;
-    }
-    if (i + 1 >= args.size()) {
-      std::fprintf(stderr, "spinward ack: option %s needs a value\n", a.c_str());
-      return 2;
-    }
-    *target = args[++i];
+  auto options = OptionReader::Parse(args, {"--db", "--band", "--by", "--note"}, {"--help"});
+  if (!options.ok()) {
+    std::fprintf(stderr, "spinward ack: %s\n", options.message().c_str());
+    return 2;
   }
-  if (point.empty() || db.empty()) {
+  if (options->Has("--help")) {
+    std::fputs(kUsage.data(), stdout);
+    return 0;
+  }
+  const auto& positional = options->positional();
+  if (positional.size() > 1) {
+    std::fprintf(stderr, "spinward ack: one POINT only, got '%s' and '%s'\n", positional[0].c_str(),
+                 positional[1].c_str());
+    return 2;
+  }
+  if (positional.empty() || !options->Value("--db")) {
     std::fprintf(stderr, "spinward ack: POINT and --db are required (spinward ack --help)\n");
     return 2;
   }
+  const std::string point = positional.front(), db = *options->Value("--db");
+  const std::string band = options->Value("--band").value_or("");
+  const std::string note = options->Value("--note").value_or("");
+  std::string by = options->Value("--by").value_or("");
   if (by.empty()) {
     const char* user = std::getenv("USER");
     if (user == nullptr || *user == '\0') {

@@ -5,6 +5,7 @@
 #include <string_view>
 
 #include "commands.h"
+#include "option_reader.h"
 #include "spinward/storage/query_report.h"
 #include "spinward/storage/time_text.h"
 #include "spinward/storage/trend_store.h"
@@ -29,37 +30,28 @@ Exit status: 0 on success, 2 for a bad option, 1 when the database cannot be rea
 }  // namespace
 
 int CommandAlarms(const Arguments& args) {
-  std::string db, since = "7d", format = "csv";
-  bool open_only = false;
-  for (std::size_t i = 0; i < args.size(); ++i) {
-    const std::string& a = args[i];
-    if (a == "--help" || a == "-h") {
-      std::fputs(kUsage.data(), stdout);
-      return 0;
-    }
-    if (a == "--open") {
-      open_only = true;
-      continue;
-    }
-    std::string* target = a == "--db"       ? &db
-                          : a == "--since"  ? &since
-                          : a == "--format" ? &format
-                                            : nullptr;
-    if (target == nullptr) {
-      std::fprintf(stderr, "spinward alarms: unknown option '%s' (spinward alarms --help)\n",
-                   a.c_str());
-      return 2;
-    }
-    if (i + 1 >= args.size()) {
-      std::fprintf(stderr, "spinward alarms: option %s needs a value\n", a.c_str());
-      return 2;
-    }
-    *target = args[++i];
+  auto options = OptionReader::Parse(args, {"--db", "--since", "--format"}, {"--help", "--open"});
+  if (!options.ok()) {
+    std::fprintf(stderr, "spinward alarms: %s\n", options.message().c_str());
+    return 2;
   }
-  if (db.empty()) {
+  if (options->Has("--help")) {
+    std::fputs(kUsage.data(), stdout);
+    return 0;
+  }
+  if (!options->positional().empty()) {
+    std::fprintf(stderr, "spinward alarms: unexpected argument '%s' (spinward alarms --help)\n",
+                 options->positional().front().c_str());
+    return 2;
+  }
+  if (!options->Value("--db")) {
     std::fprintf(stderr, "spinward alarms: --db is required (spinward alarms --help)\n");
     return 2;
   }
+  const std::string db = *options->Value("--db");
+  const std::string since = options->Value("--since").value_or("7d");
+  const std::string format = options->Value("--format").value_or("csv");
+  const bool open_only = options->Has("--open");
   auto since_ns = storage::ParseTimeArgument(since, storage::WallClockNowNs());
   auto format_value = storage::ParseReportFormat(format);
   for (const Status& s : {since_ns.status(), format_value.status()}) {

@@ -5,6 +5,7 @@
 #include <string_view>
 
 #include "commands.h"
+#include "option_reader.h"
 #include "spinward/storage/query_report.h"
 #include "spinward/storage/trend_store.h"
 
@@ -27,32 +28,27 @@ Exit status: 0 on success, 2 for a bad option, 1 when the database cannot be rea
 }  // namespace
 
 int CommandStatus(const Arguments& args) {
-  std::string db, point, format = "csv";
-  for (std::size_t i = 0; i < args.size(); ++i) {
-    const std::string& a = args[i];
-    if (a == "--help" || a == "-h") {
-      std::fputs(kUsage.data(), stdout);
-      return 0;
-    }
-    std::string* target = a == "--db"       ? &db
-                          : a == "--point"  ? &point
-                          : a == "--format" ? &format
-                                            : nullptr;
-    if (target == nullptr) {
-      std::fprintf(stderr, "spinward status: unknown option '%s' (spinward status --help)\n",
-                   a.c_str());
-      return 2;
-    }
-    if (i + 1 >= args.size()) {
-      std::fprintf(stderr, "spinward status: option %s needs a value\n", a.c_str());
-      return 2;
-    }
-    *target = args[++i];
+  auto options = OptionReader::Parse(args, {"--db", "--point", "--format"}, {"--help"});
+  if (!options.ok()) {
+    std::fprintf(stderr, "spinward status: %s\n", options.message().c_str());
+    return 2;
   }
-  if (db.empty()) {
+  if (options->Has("--help")) {
+    std::fputs(kUsage.data(), stdout);
+    return 0;
+  }
+  if (!options->positional().empty()) {
+    std::fprintf(stderr, "spinward status: unexpected argument '%s' (spinward status --help)\n",
+                 options->positional().front().c_str());
+    return 2;
+  }
+  if (!options->Value("--db")) {
     std::fprintf(stderr, "spinward status: --db is required (spinward status --help)\n");
     return 2;
   }
+  const std::string db = *options->Value("--db");
+  const std::string point = options->Value("--point").value_or("");
+  const std::string format = options->Value("--format").value_or("csv");
   auto format_value = storage::ParseReportFormat(format);
   if (!format_value) {
     std::fprintf(stderr, "spinward status: %s\n", format_value.message().c_str());

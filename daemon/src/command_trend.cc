@@ -6,6 +6,7 @@
 #include <string_view>
 
 #include "commands.h"
+#include "option_reader.h"
 #include "spinward/storage/query_report.h"
 #include "spinward/storage/time_text.h"
 #include "spinward/storage/trend_store.h"
@@ -34,39 +35,33 @@ Exit status: 0 on success, 2 for a bad option, 1 when the database cannot be rea
 }  // namespace
 
 int CommandTrend(const Arguments& args) {
-  std::string db, point, band, since = "24h", until = "now", level = "raw", format = "csv";
-  for (std::size_t i = 0; i < args.size(); ++i) {
-    const std::string& a = args[i];
-    if (a == "--help" || a == "-h") {
-      std::fputs(kUsage.data(), stdout);
-      return 0;
-    }
-    std::string* target = a == "--db"       ? &db
-                          : a == "--point"  ? &point
-                          : a == "--band"   ? &band
-                          : a == "--since"  ? &since
-                          : a == "--until"  ? &until
-                          : a == "--level"  ? &level
-                          : a == "--format" ? &format
-                                            : nullptr;
-    if (target == nullptr) {
-      std::fprintf(stderr, "spinward trend: unknown option '%s' (spinward trend --help)\n",
-                   a.c_str());
-      return 2;
-    }
-    if (i + 1 >= args.size()) {
-      std::fprintf(stderr, "spinward trend: option %s needs a value\n", a.c_str());
-      return 2;
-    }
-    *target = args[++i];
+  auto options = OptionReader::Parse(
+      args, {"--db", "--point", "--band", "--since", "--until", "--level", "--format"}, {"--help"});
+  if (!options.ok()) {
+    std::fprintf(stderr, "spinward trend: %s\n", options.message().c_str());
+    return 2;
   }
-  for (auto [name, value] :
-       {std::pair{"--db", &db}, std::pair{"--point", &point}, std::pair{"--band", &band}}) {
-    if (value->empty()) {
-      std::fprintf(stderr, "spinward trend: %s is required (spinward trend --help)\n", name);
+  if (options->Has("--help")) {
+    std::fputs(kUsage.data(), stdout);
+    return 0;
+  }
+  if (!options->positional().empty()) {
+    std::fprintf(stderr, "spinward trend: unexpected argument '%s' (spinward trend --help)\n",
+                 options->positional().front().c_str());
+    return 2;
+  }
+  for (const char* required : {"--db", "--point", "--band"}) {
+    if (!options->Value(required)) {
+      std::fprintf(stderr, "spinward trend: %s is required (spinward trend --help)\n", required);
       return 2;
     }
   }
+  const std::string db = *options->Value("--db"), point = *options->Value("--point"),
+                    band = *options->Value("--band");
+  const std::string since = options->Value("--since").value_or("24h");
+  const std::string until = options->Value("--until").value_or("now");
+  const std::string level = options->Value("--level").value_or("raw");
+  const std::string format = options->Value("--format").value_or("csv");
   const std::int64_t now = storage::WallClockNowNs();
   auto since_ns = storage::ParseTimeArgument(since, now);
   auto until_ns = storage::ParseTimeArgument(until, now);
