@@ -5,7 +5,7 @@ set -euo pipefail
 
 packages=(
   cmake g++ make pkg-config ninja-build
-  libfftw3-dev libboost-dev libsqlite3-dev libspdlog-dev libyaml-cpp-dev
+  libfftw3-dev libboost-dev libsqlite3-dev libspdlog-dev libyaml-cpp-dev zlib1g-dev
   libgtest-dev libgmock-dev libbenchmark-dev
   python3 python3-scipy python3-numpy python3-prometheus-client
   sqlite3 clang-format

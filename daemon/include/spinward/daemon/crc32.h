@@ -2,7 +2,7 @@
 // its reflected form 0xEDB88320, initial value and final XOR 0xFFFFFFFF. The chaining convention is
 // zlib's: pass the value returned for the bytes so far to continue over the next bytes, so
 // Crc32(b, Crc32(a)) == Crc32(a + b).
-// Thread-safety: pure function over a constant table; safe from any thread.
+// Thread-safety: pure function; safe from any thread.
 #pragma once
 
 #include <cstdint>
