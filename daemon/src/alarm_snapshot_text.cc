@@ -8,8 +8,8 @@
 namespace spinward::daemon {
 namespace {
 
-std::string Escape(const std::string& text) {
-  std::string out;
+// Appends `text` with backslash, CR and LF escaped, so every field stays on one line.
+void AppendEscaped(std::string& out, const std::string& text) {
   for (char c : text) {
     if (c == '\\') {
       out += "\\\\";
@@ -21,7 +21,6 @@ std::string Escape(const std::string& text) {
       out += c;
     }
   }
-  return out;
 }
 
 std::string Unescape(const std::string& text) {
@@ -50,9 +49,14 @@ Result<std::int64_t> ParseInt(const std::string& key, const std::string& text) {
 }  // namespace
 
 std::string SnapshotToText(const AlarmSnapshot& s) {
-  std::ostringstream out;
+  // Written once per record per limit set, so plain appends (no stream): it showed in profiles.
+  std::string out;
+  out.reserve(384);
   auto line = [&out](const char* key, const std::string& value) {
-    out << key << '=' << Escape(value) << '\n';
+    out += key;
+    out += '=';
+    AppendEscaped(out, value);
+    out += '\n';
   };
   line("version", "1");
   line("point", s.point_id);
@@ -76,7 +80,7 @@ std::string SnapshotToText(const AlarmSnapshot& s) {
   line("learning", s.learning ? "1" : "0");
   if (s.last_data_ns) line("last_data_ns", std::to_string(*s.last_data_ns));
   if (s.watch_since_ns) line("watch_since_ns", std::to_string(*s.watch_since_ns));
-  return out.str();
+  return out;
 }
 
 Result<AlarmSnapshot> SnapshotFromText(const std::string& text) {
