@@ -263,20 +263,16 @@ std::string RenderReportHtml(const ReportModel& model, std::int64_t generated_ns
     out +=
         "<table class=\"measures\"><tr><th>measure</th><th>unit</th><th>state</th><th>now</th>"
         "<th>baseline</th><th>7 days</th><th>vs baseline</th><th>vs 7 days</th><th>alert</th>"
-        "<th>danger</th><th>reaches alert</th><th>reaches danger</th><th>slope per day</th></tr>\n";
+        "<th>danger</th><th>reaches alert</th><th>reaches danger</th><th>trend</th></tr>\n";
     for (const auto& m : p.measures) {
-      char slope[32] = "-";
       const Forecast& f = m.alert.kind != Forecast::Kind::kNoLimit ? m.alert : m.danger;
-      if (f.kind == Forecast::Kind::kHeading || f.kind == Forecast::Kind::kNotHeading ||
-          f.kind == Forecast::Kind::kAlreadyBeyond) {
-        std::snprintf(slope, sizeof slope, "%+.3g", f.slope_per_day);
-      }
       out += "<tr>" + Cell(m.measure.name) + Cell(m.measure.unit) + StateCell(m.state) +
              Cell(ReportLevel(m.current), true) + Cell(ReportLevel(m.baseline), true) +
              Cell(ReportLevel(m.week), true) + Cell(ReportDb(m.vs_baseline_db), true) +
              Cell(ReportDb(m.vs_week_db), true) + Cell(ReportLevel(m.limits.alert), true) +
              Cell(ReportLevel(m.limits.danger), true) + Cell(ForecastPhrase(m.alert, o)) +
-             Cell(ForecastPhrase(m.danger, o)) + Cell(slope, true) + "</tr>\n";
+             Cell(ForecastPhrase(m.danger, o)) + Cell(TrendRate(f, m.measure.unit), true) +
+             "</tr>\n";
     }
     out += "</table>\n";
     if (const MeasureReview* k = p.Key(); k && !k->baseline_source.empty()) {

@@ -37,32 +37,49 @@ std::int64_t ToNs(double hours_from_to, std::int64_t to_ns) {
   return to_ns + static_cast<std::int64_t>(std::llround(hours_from_to * 3600.0 * 1e9));
 }
 
-Forecast ForecastToLimit(const std::vector<storage::TrendRow>& rows, std::optional<double> limit,
-                         const ReportOptions& options) {
+// Fits the hourly means of the fit window and projects them to `limit`. Each mean is placed where
+// its intervals sit in the hour (measured on the window's last hour: the middle for continuous
+// data, the top of the hour for a snapshot taken then). Band values are amplitudes, and wear
+// tends to grow them by a steady factor rather than a steady step, so the line is fitted to their
+// logarithm; a straight line in log space is never later than an accelerating exponential, and
+// on a slow linear rise it errs early, the safe side for a warning (docs/report.md).
+Result<Forecast> ForecastToLimit(storage::ReportReader& reader, std::int64_t measure_pk,
+                                 const std::vector<storage::TrendRow>& rows,
+                                 std::optional<double> limit, const ReportOptions& options) {
   Forecast f;
   if (!limit) return f;  // kNoLimit
-  std::vector<double> x, y;
+  std::vector<const storage::TrendRow*> fitted;
   const std::int64_t fit_from = options.to_ns - options.fit_window_ns;
   for (const auto& r : rows) {
     if (r.start_ns < fit_from || r.start_ns >= options.to_ns || !std::isfinite(r.value)) continue;
-    // Hours relative to the report's end, at the bucket's middle: small numbers, well conditioned.
-    x.push_back(static_cast<double>(r.start_ns - options.to_ns) / 3.6e12 + 0.5);
-    y.push_back(r.value);
+    fitted.push_back(&r);
   }
-  f.fitted_hours = static_cast<int>(x.size());
-  if (static_cast<int>(x.size()) < options.min_fit_hours) {
+  f.fitted_hours = static_cast<int>(fitted.size());
+  if (f.fitted_hours < options.min_fit_hours) {
     f.kind = Forecast::Kind::kTooLittleData;
     return f;
+  }
+  auto centre = reader.HourCentre(measure_pk, fitted.back()->start_ns);
+  if (!centre) return centre.status();
+  const double offset_h = centre->value_or(0.5 * 3.6e12) / 3.6e12;
+  f.log_scale = *limit > 0.0 && std::all_of(fitted.begin(), fitted.end(),
+                                            [](const auto* r) { return r->value > 0.0; });
+  auto scale = [&](double v) { return f.log_scale ? std::log(v) : v; };
+  std::vector<double> x, y;
+  for (const auto* r : fitted) {
+    // Hours relative to the report's end: small numbers, well conditioned.
+    x.push_back(static_cast<double>(r->start_ns - options.to_ns) / 3.6e12 + offset_h);
+    y.push_back(scale(r->value));
   }
   auto fit = estimators::FitTheilSen(x, y, options.confidence);
   if (!fit) {
     f.kind = Forecast::Kind::kTooLittleData;
     return f;
   }
-  f.slope_per_day = fit->slope * 24.0;
+  f.per_day = f.log_scale ? std::expm1(fit->slope * 24.0) : fit->slope * 24.0;
   const double horizon_h = static_cast<double>(options.horizon_ns) / 3.6e12;
   const estimators::LimitForecast p =
-      estimators::ProjectToLimit(*fit, *limit, 0.0, y.back(), horizon_h);
+      estimators::ProjectToLimit(*fit, scale(*limit), 0.0, y.back(), horizon_h);
   switch (p.kind) {
     case estimators::LimitForecast::Kind::kAlreadyBeyond:
       f.kind = Forecast::Kind::kAlreadyBeyond;
@@ -221,8 +238,12 @@ Result<ReportModel> BuildReport(storage::ReportReader& reader, BaselineProvider&
                e != event_limits.end()) {
       m.limits = e->second;
     }
-    m.alert = ForecastToLimit(*rows, m.limits.alert, options);
-    m.danger = ForecastToLimit(*rows, m.limits.danger, options);
+    for (auto [limit, forecast] :
+         {std::pair{m.limits.alert, &m.alert}, std::pair{m.limits.danger, &m.danger}}) {
+      auto f = ForecastToLimit(reader, measure.measure_pk, *rows, limit, options);
+      if (!f) return f.status();
+      *forecast = *f;
+    }
 
     // Completeness: intervals received in the whole hours of the period against the point's usual
     // count per hour (the median over hours with data, this period and the week before).

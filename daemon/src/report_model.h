@@ -61,7 +61,11 @@ struct Forecast {
   std::int64_t earliest_ns = 0;
   std::int64_t likely_ns = 0;
   std::optional<std::int64_t> latest_ns;  // none: the slope's range includes flat
-  double slope_per_day = 0.0;             // measure unit per day
+  // The fitted trend: on a log scale (exponential growth) when every value is positive, as band
+  // values are; then `per_day` is the relative change per day (0.5: +50 % a day). Otherwise
+  // linear, and `per_day` is in the measure's unit per day.
+  bool log_scale = false;
+  double per_day = 0.0;
   int fitted_hours = 0;
 };
 

@@ -108,32 +108,35 @@ std::map<std::string, std::string> RenderReportCsv(const ReportModel& model) {
                      "vs_week_db",    "alert_limit",    "danger_limit",
                      "alert_kind",    "alert_earliest", "alert_likely",
                      "alert_latest",  "danger_kind",    "danger_earliest",
-                     "danger_likely", "danger_latest",  "slope_per_day"});
+                     "danger_likely", "danger_latest",  "trend_scale",
+                     "trend_per_day"});
   for (const auto& p : model.points) {
     for (const auto& m : p.measures) {
       const Forecast& f = m.alert.kind != Forecast::Kind::kNoLimit ? m.alert : m.danger;
-      measures +=
-          CsvRow({p.point_id,
-                  m.measure.name,
-                  m.measure.kind,
-                  m.measure.unit,
-                  m.state,
-                  Number(m.current),
-                  Number(m.baseline),
-                  Number(m.week),
-                  Number(m.vs_baseline_db),
-                  Number(m.vs_week_db),
-                  Number(m.limits.alert),
-                  Number(m.limits.danger),
-                  ForecastKind(m.alert),
-                  ForecastTime(m.alert, 0),
-                  ForecastTime(m.alert, 1),
-                  ForecastTime(m.alert, 2),
-                  ForecastKind(m.danger),
-                  ForecastTime(m.danger, 0),
-                  ForecastTime(m.danger, 1),
-                  ForecastTime(m.danger, 2),
-                  f.fitted_hours >= model.options.min_fit_hours ? Number(f.slope_per_day) : ""});
+      const bool fitted =
+          f.kind != Forecast::Kind::kNoLimit && f.kind != Forecast::Kind::kTooLittleData;
+      measures += CsvRow({p.point_id,
+                          m.measure.name,
+                          m.measure.kind,
+                          m.measure.unit,
+                          m.state,
+                          Number(m.current),
+                          Number(m.baseline),
+                          Number(m.week),
+                          Number(m.vs_baseline_db),
+                          Number(m.vs_week_db),
+                          Number(m.limits.alert),
+                          Number(m.limits.danger),
+                          ForecastKind(m.alert),
+                          ForecastTime(m.alert, 0),
+                          ForecastTime(m.alert, 1),
+                          ForecastTime(m.alert, 2),
+                          ForecastKind(m.danger),
+                          ForecastTime(m.danger, 0),
+                          ForecastTime(m.danger, 1),
+                          ForecastTime(m.danger, 2),
+                          fitted ? (f.log_scale ? "log" : "linear") : "",
+                          fitted ? Number(f.per_day) : ""});
     }
   }
   std::string& alarms = files["alarms.csv"];

@@ -36,6 +36,17 @@ std::string ReportPercent(std::optional<double> share) {
   return buf;
 }
 
+std::string TrendRate(const Forecast& f, const std::string& unit) {
+  if (f.kind == Forecast::Kind::kNoLimit || f.kind == Forecast::Kind::kTooLittleData) return "-";
+  char buf[64];
+  if (f.log_scale) {
+    std::snprintf(buf, sizeof buf, "%+.3g %%/d", 100.0 * f.per_day);
+  } else {
+    std::snprintf(buf, sizeof buf, "%+.3g %s/d", f.per_day, unit.c_str());
+  }
+  return buf;
+}
+
 std::string ForecastKind(const Forecast& f) {
   switch (f.kind) {
     case Forecast::Kind::kHeading:

@@ -27,6 +27,8 @@ std::string ReportPercent(std::optional<double> share);
 // "2026-03-04 06:00 (03-03 22:00 to 03-05 01:00)", "at or above the limit", "not heading for the
 // limit within 90 d", "too little data (4 h)", "no limit".
 std::string ForecastPhrase(const Forecast& forecast, const ReportOptions& options);
+// The fitted trend per day: "+7.1 %/d" (log scale) or "+0.052 mm/s/d"; "-" without a fit.
+std::string TrendRate(const Forecast& forecast, const std::string& unit);
 // A short machine-readable kind: heading, beyond, not_heading, too_little_data, no_limit.
 std::string ForecastKind(const Forecast& forecast);
 

@@ -29,6 +29,10 @@ constexpr NamedSql kHourly{
     "SELECT bucket_ns, bucket_ns + 3600000000000, CASE WHEN count > 0 THEN sum / count END, min, "
     "max, count, fault_count FROM rollup_hourly WHERE measure_pk = ?1 AND bucket_ns >= ?2 AND "
     "bucket_ns < ?3 ORDER BY bucket_ns"};
+constexpr NamedSql kHourCentre{
+    "hour_centre",
+    "SELECT avg((start_ns - ?2) + (end_ns - start_ns) / 2.0) FROM trend_values WHERE measure_pk = "
+    "?1 AND start_ns >= ?2 AND start_ns < ?2 + 3600000000000"};
 constexpr NamedSql kFirstHour{"first_hour",
                               "SELECT min(bucket_ns) FROM rollup_hourly WHERE measure_pk = ?1"};
 constexpr NamedSql kEvents{
@@ -54,7 +58,7 @@ constexpr NamedSql kFirstSpectrum{
     "SELECT s.start_ns, s.end_ns, s.data FROM spectra s WHERE s.point_pk = (SELECT point_pk FROM "
     "points WHERE point_id = ?1) ORDER BY s.start_ns LIMIT 1"};
 
-constexpr NamedSql kAll[] = {kMeasures, kHourly, kFirstHour,      kEvents,
+constexpr NamedSql kAll[] = {kMeasures, kHourly, kHourCentre,     kFirstHour,    kEvents,
                              kAcks,     kStates, kSpectrumBefore, kFirstSpectrum};
 
 }  // namespace
@@ -153,6 +157,16 @@ Result<std::vector<TrendRow>> ReportReader::Hourly(std::int64_t measure_pk, std:
   }
   if (rc != SQLITE_DONE) return impl_->Failed(kHourly);
   return rows;
+}
+
+Result<std::optional<double>> ReportReader::HourCentre(std::int64_t measure_pk,
+                                                       std::int64_t bucket_ns) {
+  auto stmt = impl_->Prepare(kHourCentre);
+  if (!stmt) return stmt.status();
+  stmt->Bind(1, measure_pk).Bind(2, bucket_ns);
+  if (stmt->Step() != SQLITE_ROW) return impl_->Failed(kHourCentre);
+  if (stmt->IsNull(0)) return std::optional<double>();
+  return std::optional<double>(stmt->Real(0));
 }
 
 Result<std::optional<std::int64_t>> ReportReader::FirstHour(std::int64_t measure_pk) {

@@ -2,7 +2,8 @@
 // each measure's earliest stored hour, alarm events, acknowledgements, alarm states and spectrum
 // snapshots, all through the indexes of docs/storage.md so a 500-point, 30-day database reports in
 // seconds. Raw trend_values are never scanned: the report works on hourly roll-ups, which hold the
-// mean, min, max and interval counts it needs. Opens its own read-only connection, so it runs while
+// mean, min, max and interval counts it needs, and reads one hour of raw rows per forecast to
+// place the hourly means in time. Opens its own read-only connection, so it runs while
 // the daemon writes (WAL).
 // Thread-safety: one thread at a time per reader.
 #pragma once
@@ -45,6 +46,10 @@ class ReportReader {
   // bucket; value the mean, NaN when every interval was a sensor fault).
   Result<std::vector<TrendRow>> Hourly(std::int64_t measure_pk, std::int64_t since_ns,
                                        std::int64_t until_ns);
+  // Where in the hour starting at bucket_ns the measure's raw intervals sit: the mean of their
+  // midpoints, in ns after bucket_ns (30 min for an evenly filled hour, seconds for a snapshot at
+  // the top of the hour); none when the hour holds no interval. One hour of raw rows, by index.
+  Result<std::optional<double>> HourCentre(std::int64_t measure_pk, std::int64_t bucket_ns);
   // The measure's first stored hour (the start of its commissioning period), if any.
   Result<std::optional<std::int64_t>> FirstHour(std::int64_t measure_pk);
   // Alarm events with since <= time < until, oldest first.
