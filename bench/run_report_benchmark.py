@@ -65,6 +65,7 @@ def build_db(path, source_dir, points, days, end_ns):
                           THEN (i - {minutes - 14400}) * 0.0001 ELSE 0 END,
                    0
             FROM minute""")
+    add_limits(db, points, end_ns)
     for table, bucket in (("rollup_hourly", HOUR_NS), ("rollup_daily", 24 * HOUR_NS)):
         db.execute(f"""INSERT INTO {table} (measure_pk, bucket_ns, min, max, sum, count, fault_count)
             SELECT measure_pk, start_ns - (start_ns % {bucket}), min(value), max(value), total(value),
@@ -72,6 +73,23 @@ def build_db(path, source_dir, points, days, end_ns):
     db.execute("COMMIT")
     db.execute("PRAGMA wal_checkpoint(TRUNCATE)")
     db.close()
+
+
+def add_limits(db, points, end_ns):
+    """Every velocity measure gets alert and danger limits (2.8 and 4.5 mm/s, ISO 10816-3 group 2
+    rigid B/C and C/D) through events ten days before the end, so the report forecasts all 500:
+    alert then back to normal, danger then back to normal."""
+    t = end_ns - 10 * 24 * HOUR_NS
+    rows = []
+    for p in range(1, points + 1):
+        for k, (frm, to, value, limit) in enumerate((("normal", "alert", 2.9, 2.8),
+                                                     ("alert", "normal", 2.5, None),
+                                                     ("normal", "danger", 4.6, 4.5),
+                                                     ("danger", "normal", 2.5, None))):
+            rows.append((f"bench-{p}-{k}", t + k * 60 * 10**9, p, "velocity", frm, to, value, limit,
+                         f"bench event {k}"))
+    db.executemany("INSERT INTO alarm_events (event_id, time_ns, point_pk, measure, from_state, "
+                   "to_state, value, limit_value, message) VALUES (?, ?, ?, ?, ?, ?, ?, ?, ?)", rows)
 
 
 def timed(fn):

@@ -39,10 +39,12 @@ std::int64_t ToNs(double hours_from_to, std::int64_t to_ns) {
 
 // Fits the hourly means of the fit window and projects them to `limit`. Each mean is placed where
 // its intervals sit in the hour (measured on the window's last hour: the middle for continuous
-// data, the top of the hour for a snapshot taken then). Band values are amplitudes, and wear
-// tends to grow them by a steady factor rather than a steady step, so the line is fitted to their
-// logarithm; a straight line in log space is never later than an accelerating exponential, and
-// on a slow linear rise it errs early, the safe side for a warning (docs/report.md).
+// data, the top of the hour for a snapshot taken then). Wear may grow a band by a steady step
+// (a straight line) or by a steady factor (a straight line of the logarithm, the exponential
+// growth of a spreading defect); the window alone rarely settles which. Both are fitted when the
+// values are positive: the likely date comes from the one whose median absolute residual is
+// smaller, and the range spans both models' ranges, so it stays honest about the choice
+// (docs/report.md).
 Result<Forecast> ForecastToLimit(storage::ReportReader& reader, std::int64_t measure_pk,
                                  const std::vector<storage::TrendRow>& rows,
                                  std::optional<double> limit, const ReportOptions& options) {
@@ -62,40 +64,70 @@ Result<Forecast> ForecastToLimit(storage::ReportReader& reader, std::int64_t mea
   auto centre = reader.HourCentre(measure_pk, fitted.back()->start_ns);
   if (!centre) return centre.status();
   const double offset_h = centre->value_or(0.5 * 3.6e12) / 3.6e12;
-  f.log_scale = *limit > 0.0 && std::all_of(fitted.begin(), fitted.end(),
-                                            [](const auto* r) { return r->value > 0.0; });
-  auto scale = [&](double v) { return f.log_scale ? std::log(v) : v; };
   std::vector<double> x, y;
   for (const auto* r : fitted) {
     // Hours relative to the report's end: small numbers, well conditioned.
     x.push_back(static_cast<double>(r->start_ns - options.to_ns) / 3.6e12 + offset_h);
-    y.push_back(scale(r->value));
+    y.push_back(r->value);
   }
-  auto fit = estimators::FitTheilSen(x, y, options.confidence);
-  if (!fit) {
+  const bool positive =
+      *limit > 0.0 && std::all_of(y.begin(), y.end(), [](double v) { return v > 0.0; });
+  const double horizon_h = static_cast<double>(options.horizon_ns) / 3.6e12;
+
+  struct Model {
+    bool log_scale = false;
+    estimators::TheilSenFit fit;
+    estimators::LimitForecast projection;
+    double median_abs_residual = 0.0;
+  };
+  std::vector<Model> models;
+  for (bool log_scale : {false, true}) {
+    if (log_scale && !positive) continue;
+    auto scale = [&](double v) { return log_scale ? std::log(v) : v; };
+    std::vector<double> scaled;
+    for (double v : y) scaled.push_back(scale(v));
+    auto fit = estimators::FitTheilSen(x, scaled, options.confidence);
+    if (!fit) continue;
+    Model m{log_scale, *fit,
+            estimators::ProjectToLimit(*fit, scale(*limit), 0.0, scaled.back(), horizon_h), 0.0};
+    std::vector<double> residuals;
+    for (std::size_t i = 0; i < x.size(); ++i) {
+      const double predicted = log_scale ? std::exp(fit->At(x[i])) : fit->At(x[i]);
+      residuals.push_back(std::abs(y[i] - predicted));
+    }
+    std::nth_element(residuals.begin(), residuals.begin() + residuals.size() / 2, residuals.end());
+    m.median_abs_residual = residuals[residuals.size() / 2];
+    models.push_back(m);
+  }
+  if (models.empty()) {
     f.kind = Forecast::Kind::kTooLittleData;
     return f;
   }
-  f.per_day = f.log_scale ? std::expm1(fit->slope * 24.0) : fit->slope * 24.0;
-  const double horizon_h = static_cast<double>(options.horizon_ns) / 3.6e12;
-  const estimators::LimitForecast p =
-      estimators::ProjectToLimit(*fit, scale(*limit), 0.0, y.back(), horizon_h);
-  switch (p.kind) {
+  const Model& best = *std::min_element(
+      models.begin(), models.end(),
+      [](const Model& a, const Model& b) { return a.median_abs_residual < b.median_abs_residual; });
+  f.log_scale = best.log_scale;
+  f.per_day = best.log_scale ? std::expm1(best.fit.slope * 24.0) : best.fit.slope * 24.0;
+  switch (best.projection.kind) {
     case estimators::LimitForecast::Kind::kAlreadyBeyond:
       f.kind = Forecast::Kind::kAlreadyBeyond;
-      break;
+      return f;
     case estimators::LimitForecast::Kind::kNotHeading:
       f.kind = Forecast::Kind::kNotHeading;
-      break;
+      return f;
     case estimators::LimitForecast::Kind::kHeading:
-      f.kind = Forecast::Kind::kHeading;
-      f.earliest_ns = ToNs(p.earliest_x, options.to_ns);
-      f.likely_ns = ToNs(p.likely_x, options.to_ns);
-      if (std::isfinite(p.latest_x) && p.latest_x <= horizon_h) {
-        f.latest_ns = ToNs(p.latest_x, options.to_ns);
-      }
       break;
   }
+  f.kind = Forecast::Kind::kHeading;
+  double earliest = best.projection.earliest_x, latest = best.projection.latest_x;
+  for (const Model& m : models) {
+    if (m.projection.kind != estimators::LimitForecast::Kind::kHeading) continue;
+    earliest = std::min(earliest, m.projection.earliest_x);
+    latest = std::max(latest, m.projection.latest_x);
+  }
+  f.earliest_ns = ToNs(earliest, options.to_ns);
+  f.likely_ns = ToNs(best.projection.likely_x, options.to_ns);
+  if (std::isfinite(latest) && latest <= horizon_h) f.latest_ns = ToNs(latest, options.to_ns);
   return f;
 }
 

@@ -43,6 +43,15 @@ class ReportReaderTest : public ::testing::Test {
     e.limit = 2.8;
     e.message = "alert";
     batch.events.push_back(e);
+    AlarmStateRecord state;
+    state.point_id = "P-101";
+    state.measure = "velocity_rms_10_1000";
+    state.state = "alert";
+    state.since_ns = e.time_ns;
+    state.last_value = 3.0;
+    state.last_event_id = "ev-1";
+    state.updated_ns = e.time_ns;
+    batch.states.push_back(state);
     ASSERT_TRUE(store->Write(batch).status.ok());
     ASSERT_TRUE(
         store->Acknowledge("P-101", "", "night shift", "seen", kBaseNs + 9 * kTenMinNs).ok());
@@ -93,23 +102,42 @@ TEST_F(ReportReaderTest, ReadsHourlyMeansEventsAndAcks) {
   ASSERT_EQ(acks->size(), 1u);
   EXPECT_EQ(acks->at(0).by, "night shift");
 
+  // The intervals of the first hour start at 10:00, 10:10 .. 10:50 and last 10 min: their
+  // midpoints average 30 min after the hour.
+  auto centre = reader->HourCentre(measures->at(0).measure_pk, kBaseNs);
+  ASSERT_TRUE(centre.ok()) << centre.message();
+  ASSERT_TRUE(centre->has_value());
+  EXPECT_DOUBLE_EQ(**centre, 1800e9);
+  auto empty = reader->HourCentre(measures->at(0).measure_pk, kBaseNs + 5 * kHourNs);
+  ASSERT_TRUE(empty.ok());
+  EXPECT_FALSE(empty->has_value());
+
   auto none = reader->SpectrumBefore("P-101", kBaseNs + 3 * kHourNs);
   ASSERT_TRUE(none.ok()) << none.message();
   EXPECT_FALSE(none->has_value());  // no spectrum was stored
 }
 
-TEST_F(ReportReaderTest, EveryStatementUsesAnIndexAndNeverTouchesRawValues) {
+TEST_F(ReportReaderTest, EveryStatementUsesAnIndexAndNeverScansALargeTable) {
   // EXPLAIN QUERY PLAN prints "SEARCH <table> USING INDEX <name>" when an index narrows the rows
   // and "SCAN <table>" for a full scan (sqlite.org/eqp.html). The small tables (points, measures,
   // alarm_state, acknowledgements) may be scanned; the large ones (trend_values, rollup_hourly,
-  // alarm_events, spectra) never.
+  // alarm_events, spectra) never. Raw trend_values are read by one statement only, one hour of
+  // one measure through its (measure_pk, start_ns) index.
   auto reader = ReportReader::Open(path_);
   ASSERT_TRUE(reader.ok()) << reader.message();
   auto plan = reader->ExplainAll();
   ASSERT_TRUE(plan.ok()) << plan.message();
   std::string all;
   for (const auto& line : *plan) all += line + "\n";
-  EXPECT_EQ(all.find("trend_values"), std::string::npos) << all;
+  std::size_t raw_lines = 0;
+  for (const auto& line : *plan) {
+    if (line.find("trend_values") == std::string::npos) continue;
+    ++raw_lines;
+    EXPECT_EQ(line,
+              "hour_centre: SEARCH trend_values USING INDEX trend_values_by_measure_time "
+              "(measure_pk=? AND start_ns>? AND start_ns<?)");
+  }
+  EXPECT_EQ(raw_lines, 1u) << all;
   for (const char* large :
        {"SCAN rollup_hourly", "SCAN alarm_events", "SCAN e", "SCAN s", "SCAN spectra"}) {
     EXPECT_EQ(all.find(std::string(large) + "\n"), std::string::npos) << large << "\n" << all;
