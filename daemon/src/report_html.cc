@@ -308,8 +308,11 @@ std::string RenderReportHtml(const ReportModel& model, std::int64_t generated_ns
       "them. Changes are 20 log10 of level ratios. The forecast fits a Theil-Sen line (Theil "
       "1950, Sen 1968): the median of all pairwise slopes, with Sen's distribution-free range "
       "for the slope; the range's steepest and shallowest slopes give the earliest and latest "
-      "dates. A forecast is an extrapolation: a trend that accelerates arrives sooner than a "
-      "straight line says. Completeness is the share of the point's usual intervals per hour "
+      "dates. Two lines are fitted, to the values (a steady step per day) and to their "
+      "logarithm (a steady factor per day, as a spreading defect grows); the better-fitting "
+      "one gives the likely date and the range spans both. A forecast is an extrapolation: "
+      "read the earliest date too. Completeness is the share of the point's usual intervals per "
+      "hour "
       "(the median over hours with data) received in the period's whole hours.</p>\n"
       "<p>" +
       EscapeXml(kReportCaution) + "</p></section>\n";

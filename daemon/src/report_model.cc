@@ -45,22 +45,31 @@ std::int64_t ToNs(double hours_from_to, std::int64_t to_ns) {
 // values are positive: the likely date comes from the one whose median absolute residual is
 // smaller, and the range spans both models' ranges, so it stays honest about the choice
 // (docs/report.md).
-Result<Forecast> ForecastToLimit(storage::ReportReader& reader, std::int64_t measure_pk,
-                                 const std::vector<storage::TrendRow>& rows,
-                                 std::optional<double> limit, const ReportOptions& options) {
-  Forecast f;
-  if (!limit) return f;  // kNoLimit
+struct GrowthModel {
+  bool log_scale = false;
+  estimators::TheilSenFit fit;
+  double median_abs_residual = 0.0;
+};
+
+struct TrendFit {
+  int fitted_hours = 0;
+  double last_value = 0.0;
+  std::vector<GrowthModel> models;  // empty: too little data
+};
+
+// The fits do not depend on the limit: made once per measure, projected to each limit.
+Result<TrendFit> FitTrend(storage::ReportReader& reader, std::int64_t measure_pk,
+                          const std::vector<storage::TrendRow>& rows,
+                          const ReportOptions& options) {
+  TrendFit t;
   std::vector<const storage::TrendRow*> fitted;
   const std::int64_t fit_from = options.to_ns - options.fit_window_ns;
   for (const auto& r : rows) {
     if (r.start_ns < fit_from || r.start_ns >= options.to_ns || !std::isfinite(r.value)) continue;
     fitted.push_back(&r);
   }
-  f.fitted_hours = static_cast<int>(fitted.size());
-  if (f.fitted_hours < options.min_fit_hours) {
-    f.kind = Forecast::Kind::kTooLittleData;
-    return f;
-  }
+  t.fitted_hours = static_cast<int>(fitted.size());
+  if (t.fitted_hours < options.min_fit_hours) return t;
   auto centre = reader.HourCentre(measure_pk, fitted.back()->start_ns);
   if (!centre) return centre.status();
   const double offset_h = centre->value_or(0.5 * 3.6e12) / 3.6e12;
@@ -70,44 +79,54 @@ Result<Forecast> ForecastToLimit(storage::ReportReader& reader, std::int64_t mea
     x.push_back(static_cast<double>(r->start_ns - options.to_ns) / 3.6e12 + offset_h);
     y.push_back(r->value);
   }
-  const bool positive =
-      *limit > 0.0 && std::all_of(y.begin(), y.end(), [](double v) { return v > 0.0; });
-  const double horizon_h = static_cast<double>(options.horizon_ns) / 3.6e12;
-
-  struct Model {
-    bool log_scale = false;
-    estimators::TheilSenFit fit;
-    estimators::LimitForecast projection;
-    double median_abs_residual = 0.0;
-  };
-  std::vector<Model> models;
+  t.last_value = y.back();
+  const bool positive = std::all_of(y.begin(), y.end(), [](double v) { return v > 0.0; });
   for (bool log_scale : {false, true}) {
     if (log_scale && !positive) continue;
-    auto scale = [&](double v) { return log_scale ? std::log(v) : v; };
     std::vector<double> scaled;
-    for (double v : y) scaled.push_back(scale(v));
+    for (double v : y) scaled.push_back(log_scale ? std::log(v) : v);
     auto fit = estimators::FitTheilSen(x, scaled, options.confidence);
     if (!fit) continue;
-    Model m{log_scale, *fit,
-            estimators::ProjectToLimit(*fit, scale(*limit), 0.0, scaled.back(), horizon_h), 0.0};
     std::vector<double> residuals;
     for (std::size_t i = 0; i < x.size(); ++i) {
       const double predicted = log_scale ? std::exp(fit->At(x[i])) : fit->At(x[i]);
       residuals.push_back(std::abs(y[i] - predicted));
     }
-    std::nth_element(residuals.begin(), residuals.begin() + residuals.size() / 2, residuals.end());
-    m.median_abs_residual = residuals[residuals.size() / 2];
-    models.push_back(m);
+    std::nth_element(residuals.begin(),
+                     residuals.begin() + static_cast<std::ptrdiff_t>(residuals.size() / 2),
+                     residuals.end());
+    t.models.push_back({log_scale, *fit, residuals[residuals.size() / 2]});
   }
-  if (models.empty()) {
+  return t;
+}
+
+Forecast ForecastToLimit(const TrendFit& t, std::optional<double> limit,
+                         const ReportOptions& options) {
+  Forecast f;
+  if (!limit) return f;  // kNoLimit
+  f.fitted_hours = t.fitted_hours;
+  struct Projected {
+    const GrowthModel* model;
+    estimators::LimitForecast projection;
+  };
+  std::vector<Projected> projected;
+  const double horizon_h = static_cast<double>(options.horizon_ns) / 3.6e12;
+  for (const auto& m : t.models) {
+    if (m.log_scale && !(*limit > 0.0)) continue;
+    auto scale = [&](double v) { return m.log_scale ? std::log(v) : v; };
+    projected.push_back({&m, estimators::ProjectToLimit(m.fit, scale(*limit), 0.0,
+                                                        scale(t.last_value), horizon_h)});
+  }
+  if (projected.empty()) {
     f.kind = Forecast::Kind::kTooLittleData;
     return f;
   }
-  const Model& best = *std::min_element(
-      models.begin(), models.end(),
-      [](const Model& a, const Model& b) { return a.median_abs_residual < b.median_abs_residual; });
-  f.log_scale = best.log_scale;
-  f.per_day = best.log_scale ? std::expm1(best.fit.slope * 24.0) : best.fit.slope * 24.0;
+  const Projected& best =
+      *std::min_element(projected.begin(), projected.end(), [](const auto& a, const auto& b) {
+        return a.model->median_abs_residual < b.model->median_abs_residual;
+      });
+  f.log_scale = best.model->log_scale;
+  f.per_day = f.log_scale ? std::expm1(best.model->fit.slope * 24.0) : best.model->fit.slope * 24.0;
   switch (best.projection.kind) {
     case estimators::LimitForecast::Kind::kAlreadyBeyond:
       f.kind = Forecast::Kind::kAlreadyBeyond;
@@ -120,10 +139,10 @@ Result<Forecast> ForecastToLimit(storage::ReportReader& reader, std::int64_t mea
   }
   f.kind = Forecast::Kind::kHeading;
   double earliest = best.projection.earliest_x, latest = best.projection.latest_x;
-  for (const Model& m : models) {
-    if (m.projection.kind != estimators::LimitForecast::Kind::kHeading) continue;
-    earliest = std::min(earliest, m.projection.earliest_x);
-    latest = std::max(latest, m.projection.latest_x);
+  for (const auto& p : projected) {
+    if (p.projection.kind != estimators::LimitForecast::Kind::kHeading) continue;
+    earliest = std::min(earliest, p.projection.earliest_x);
+    latest = std::max(latest, p.projection.latest_x);
   }
   f.earliest_ns = ToNs(earliest, options.to_ns);
   f.likely_ns = ToNs(best.projection.likely_x, options.to_ns);
@@ -270,11 +289,11 @@ Result<ReportModel> BuildReport(storage::ReportReader& reader, BaselineProvider&
                e != event_limits.end()) {
       m.limits = e->second;
     }
-    for (auto [limit, forecast] :
-         {std::pair{m.limits.alert, &m.alert}, std::pair{m.limits.danger, &m.danger}}) {
-      auto f = ForecastToLimit(reader, measure.measure_pk, *rows, limit, options);
-      if (!f) return f.status();
-      *forecast = *f;
+    if (m.limits.alert || m.limits.danger) {
+      auto trend = FitTrend(reader, measure.measure_pk, *rows, options);
+      if (!trend) return trend.status();
+      m.alert = ForecastToLimit(*trend, m.limits.alert, options);
+      m.danger = ForecastToLimit(*trend, m.limits.danger, options);
     }
 
     // Completeness: intervals received in the whole hours of the period against the point's usual

@@ -6,9 +6,8 @@
 // outliers (a sensor spike, a restart transient) barely move it: up to about 29 % of the points may
 // be wild. Its slope confidence range is Sen's distribution-free one from Kendall's tau. The
 // intercept follows scipy.stats.theilslopes' default ("separate"): median(y) - slope median(x).
-// Cost: O(n^2) pairs in time and memory; callers fit hourly means (168 points for a week), not raw
-// minutes.
-// Thread-safety: plain values and pure functions.
+// Cost: O(n^2) pairs in time and memory (ranks are selected, not sorted); callers fit hourly means
+// (168 points for a week), not raw minutes. Thread-safety: plain values and pure functions.
 #pragma once
 
 #include <cstddef>
