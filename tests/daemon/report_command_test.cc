@@ -299,14 +299,17 @@ TEST_F(ReportOnDemo, ChromiumShowsEverySectionAndFetchesNothing) {
   const fs::path profile = FreshTempDir("report_chromium_profile");
   // Every request (loopback included: "<-loopback>") goes to the counting proxy; background
   // services that would call home on their own are switched off, so any connection is the page's.
-  const std::string browser =
-      chromium.string() + " --headless --no-sandbox --disable-gpu --no-first-run" +
-      " --disable-background-networking --disable-component-update --disable-sync" +
-      " --disable-default-apps --no-default-browser-check --disable-breakpad" +
-      " --disable-extensions --disable-client-side-phishing-detection --no-pings" +
-      " --user-data-dir=" + profile.string() +
-      " --proxy-server=http://127.0.0.1:" + std::to_string(proxy.port()) +
-      " --proxy-bypass-list='<-loopback>'" + " --window-size=1200,1600 --virtual-time-budget=3000";
+  auto browser_via = [&](int proxy_port) {
+    return chromium.string() + " --headless --no-sandbox --disable-gpu --no-first-run" +
+           " --disable-background-networking --disable-component-update --disable-sync" +
+           " --disable-default-apps --no-default-browser-check --disable-breakpad" +
+           " --disable-extensions --disable-client-side-phishing-detection --no-pings" +
+           " --user-data-dir=" + profile.string() +
+           " --proxy-server=http://127.0.0.1:" + std::to_string(proxy_port) +
+           " --proxy-bypass-list='<-loopback>'" +
+           " --window-size=1200,1600 --virtual-time-budget=3000";
+  };
+  const std::string browser = browser_via(proxy.port());
   const CommandResult dom = RunCommand(browser + " --dump-dom file://" + html.string());
   ASSERT_EQ(dom.exit_code, 0) << dom.error_output;
   for (const char* id : {"caution", "summary", "changes", "alarms", "points", "method"}) {
@@ -353,11 +356,9 @@ TEST_F(ReportOnDemo, ChromiumShowsEverySectionAndFetchesNothing) {
   const fs::path control = *dir_ / "control.html";
   std::ofstream(control) << "<!DOCTYPE html><img src=\"http://leak-check.invalid/pixel.png\">";
   RequestRecorder control_proxy;
-  std::string control_browser = browser;
-  control_browser.replace(control_browser.find(std::to_string(proxy.port())),
-                          std::to_string(proxy.port()).size(),
-                          std::to_string(control_proxy.port()));
-  ASSERT_EQ(RunCommand(control_browser + " --dump-dom file://" + control.string()).exit_code, 0);
+  ASSERT_EQ(RunCommand(browser_via(control_proxy.port()) + " --dump-dom file://" + control.string())
+                .exit_code,
+            0);
   bool control_seen = false;
   for (const auto& line : control_proxy.lines()) {
     control_seen |= line.find("leak-check.invalid") != std::string::npos;
