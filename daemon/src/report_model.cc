@@ -167,15 +167,18 @@ std::map<std::pair<std::string, std::string>, MeasureLimits> LimitsFromEvents(
 }  // namespace
 
 Status ReportOptions::Validate() const {
-  if (to_ns <= from_ns) return Status::Fail("report: the period's end is not after its start");
-  if (current_window_ns <= 0) return Status::Fail("report: current window must be positive");
-  if (fit_window_ns < kReportHourNs) return Status::Fail("report: fit window must be at least 1 h");
-  if (horizon_ns <= 0) return Status::Fail("report: horizon must be positive");
-  if (min_fit_hours < 3) return Status::Fail("report: min_fit_hours must be at least 3");
+  if (to_ns <= from_ns)
+    return Status::Fail("to (--to) must be after from (--from): the period is empty");
+  if (current_window_ns <= 0)
+    return Status::Fail("current_window (--current-window) must be positive");
+  if (fit_window_ns < kReportHourNs)
+    return Status::Fail("fit_window (--fit-window) must be at least 1 h");
+  if (horizon_ns <= 0) return Status::Fail("horizon (--horizon) must be positive");
+  if (min_fit_hours < 3) return Status::Fail("min_fit_hours must be at least 3");
   if (!(confidence > 0.5 && confidence < 1.0)) {
-    return Status::Fail("report: confidence must be in (0.5, 1)");
+    return Status::Fail("confidence must be in (0.5, 1)");
   }
-  if (top_points < 0) return Status::Fail("report: top_points must not be negative");
+  if (top_points < 0) return Status::Fail("top_points must not be negative");
   return Status::Ok();
 }
 

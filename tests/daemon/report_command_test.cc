@@ -382,6 +382,12 @@ TEST(Report, BadOptionsAreOneLine) {
       RunCommand(SpinwardBinary().string() + " report --db x.sqlite --format pdf --out x");
   EXPECT_EQ(format.exit_code, 2);
   EXPECT_EQ(format.error_output, "spinward report: --format 'pdf': must be html, csv or text\n");
+  const CommandResult backwards =
+      RunCommand(SpinwardBinary().string() +
+                 " report --db x.sqlite --from 2026-03-02 --to 2026-03-01 --out x.html");
+  EXPECT_EQ(backwards.exit_code, 2);
+  EXPECT_EQ(backwards.error_output,
+            "spinward report: to (--to) must be after from (--from): the period is empty\n");
   const CommandResult missing =
       RunCommand(SpinwardBinary().string() + " report --db /nonexistent/trend.sqlite --out x.html");
   EXPECT_EQ(missing.exit_code, 1);
