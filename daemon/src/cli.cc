@@ -22,6 +22,7 @@ constexpr CommandEntry kCommands[] = {
     {"demo", CommandDemo, "run the built-in demonstration (an invented booster pump station)"},
     {"feed", CommandFeed, "act as an acquisition box: stream frames to a daemon over TCP or UDP"},
     {"replay", CommandReplay, "process a recording through a point's pipeline as if it streamed in"},
+    {"report", CommandReport, "write the nightly review: ranking, forecasts, charts (HTML, CSV, text)"},
     {"run", CommandRun, "run the daemon in the foreground with a site configuration"},
     {"status", CommandStatus, "latest value and alarm state of every point (trend database)"},
     {"trend", CommandTrend, "print a measure's trend (raw, hourly, daily) from the trend database"},

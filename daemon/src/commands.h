@@ -15,6 +15,7 @@ int CommandCheckConfig(const Arguments& args);
 int CommandDemo(const Arguments& args);
 int CommandFeed(const Arguments& args);
 int CommandReplay(const Arguments& args);
+int CommandReport(const Arguments& args);
 int CommandRun(const Arguments& args);
 int CommandStatus(const Arguments& args);
 int CommandTrend(const Arguments& args);
