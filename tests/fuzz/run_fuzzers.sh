@@ -1,7 +1,8 @@
 #!/usr/bin/env bash
 # Builds the libFuzzer targets with Debian's clang (build-fuzz, only those targets) and runs each
-# for a bounded time from its seed corpus in tests/fuzz/corpus/<name>. Any crash, sanitizer report,
-# timeout or out-of-memory fails the run; the input that did it is kept in build-fuzz/artifacts/.
+# for a bounded time from its seed corpus (tests/fuzz/corpus/<name>; the frame decoder's is
+# tests/data/frames). Any crash, sanitizer report, timeout or out-of-memory fails the run; the
+# input that did it is kept in build-fuzz/artifacts/.
 # usage: bash tests/fuzz/run_fuzzers.sh [SECONDS_PER_TARGET]   (default 20)
 set -euo pipefail
 root=$(cd "$(dirname "${BASH_SOURCE[0]}")/../.." && pwd)
@@ -22,7 +23,11 @@ failed=()
 for name in "${targets[@]}"; do
   work=$(mktemp -d)
   # New inputs go to a scratch copy; the seeds in the repo stay as they are.
-  cp "$root/tests/fuzz/corpus/$name/"* "$work/"
+  if [[ $name == frame_decoder ]]; then
+    cp "$root/tests/data/frames/"*.bin "$work/"  # the frame fixtures (docs/protocol.md)
+  else
+    cp "$root/tests/fuzz/corpus/$name/"* "$work/"
+  fi
   log="$build/artifacts/$name.log"
   if "$build/tests/fuzz/spinward_${name}_fuzz" -max_total_time="$seconds" -timeout=10 \
        -rss_limit_mb=2048 -print_final_stats=1 -artifact_prefix="$build/artifacts/$name-" \
