@@ -16,6 +16,8 @@ packages=(
   libsystemd-dev
   # the report's browser test
   chromium
+  # fuzzing with libFuzzer (tests/fuzz/run_fuzzers.sh): clang and its runtime libraries
+  clang libclang-rt-14-dev
 )
 
 missing=()

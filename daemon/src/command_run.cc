@@ -3,6 +3,7 @@
 // gracefully, flushing every interval in progress; SIGHUP reloads the configuration file.
 #include <signal.h>
 
+#include <algorithm>
 #include <chrono>
 #include <cstdio>
 #include <ctime>
@@ -12,6 +13,7 @@
 #include "daemon_logging.h"
 #include "log_sink.h"
 #include "option_reader.h"
+#include "service_notifier.h"
 #include "spinward/config/site_diff.h"
 #include "spinward/config/site_loader.h"
 #include "spinward/daemon/json_lines_sink.h"
@@ -141,18 +143,29 @@ int CommandRun(const Arguments& args) {
   LogLine("info", "spinward running for site '" + loaded.site.site.name + "' with " +
                       std::to_string(loaded.site.points.size()) + " points");
   if (auto ready = options->Value("--ready-file")) WriteReadyFile(*ready, **service);
+  // systemd (Type=notify): ready once the listeners are bound; keep-alives from this loop.
+  auto notifier = ServiceNotifier::FromEnvironment();
+  notifier.Ready("monitoring " + std::to_string(loaded.site.points.size()) + " points");
+  const auto loop_wait = notifier.watchdog_interval()
+                             ? std::min<std::chrono::microseconds>(
+                                   *notifier.watchdog_interval() / 4, std::chrono::seconds(1))
+                             : std::chrono::microseconds(std::chrono::seconds(1));
 
   auto last_summary = std::chrono::steady_clock::now();
   auto last_tick = std::chrono::steady_clock::now();
   for (;;) {
-    timespec timeout{1, 0};
+    notifier.KeepAlive(std::chrono::steady_clock::now());
+    timespec timeout{static_cast<time_t>(loop_wait.count() / 1'000'000),
+                     static_cast<long>(loop_wait.count() % 1'000'000) * 1000};
     int sig = sigtimedwait(&signals, nullptr, &timeout);
     if (sig == SIGINT || sig == SIGTERM) {
       LogLine("info", std::string("received ") + (sig == SIGINT ? "SIGINT" : "SIGTERM") +
                           ": flushing intervals and stopping");
+      notifier.Stopping();
       break;
     }
     if (sig == SIGHUP) {
+      notifier.Reloading();
       auto next = config::LoadSiteFile(*config_path);
       if (!next.ok()) {
         for (const auto& problem : next.problems) LogLine("error", "reload: " + problem.ToString());
@@ -178,6 +191,8 @@ int CommandRun(const Arguments& args) {
           if (auto ready = options->Value("--ready-file")) WriteReadyFile(*ready, **service);
         }
       }
+      notifier.Ready("monitoring " + std::to_string((*service)->site().points.size()) +
+                     " points");  // after a refused reload too: the old configuration serves on
     }
     if (std::chrono::steady_clock::now() - last_tick >= std::chrono::seconds(2)) {
       last_tick = std::chrono::steady_clock::now();
