@@ -24,6 +24,7 @@ Result<std::string> MeasureUnit(const config::PointConfig& point, const std::str
   if (const config::OverallMeasure* overall = config::FindOverallMeasure(measure)) {
     return overall->dimensionless ? std::string() : std::string(estimators::ToString(point.unit));
   }
+  if (auto unit = config::DiagnosticMeasureUnit(point, measure)) return *unit;
   return Error{"point " + point.id + " has no band or overall indicator named '" + measure + "'"};
 }
 
