@@ -8,6 +8,7 @@
 #include "spinward/config/diagnostics_config.h"
 #include "spinward/estimators/band_integrator.h"
 #include "spinward/estimators/envelope_spectrum.h"
+#include "spinward/estimators/kurtogram.h"
 
 namespace spinward::daemon {
 namespace {
@@ -130,7 +131,7 @@ std::vector<storage::BandReading> PointDiagnostics::Measure(
 // their summed power over the envelope spectrum's median level in the same widths (about 1 where
 // there is no line).
 void PointDiagnostics::AddEnvelopeMeasures(double shaft_hz,
-                                           std::vector<storage::BandReading>& out) const {
+                                           std::vector<storage::BandReading>& out) {
   if (!settings_.envelope || !settings_.bearing) return;
   const EnvelopeSettings& env = *settings_.envelope;
   auto defects = estimators::DefectFrequenciesAt(*settings_.bearing, shaft_hz);
@@ -143,20 +144,36 @@ void PointDiagnostics::AddEnvelopeMeasures(double shaft_hz,
                         {"bsf", defects.ok() ? defects->ball_pass_hz : kNaN},
                         {"ftf", defects.ok() ? defects->ftf_hz : kNaN}};
 
+  double highest = 0.0;
+  for (const Line& line : lines) highest = std::max(highest, line.hz);
+  double band_low = env.band_low_hz;
+  double band_high = env.band_high_hz;
+  if (band_low == 0.0 && band_high == 0.0 && defects.ok()) {
+    // No band configured: the kurtogram's choice, made once. The band must be wide enough to hold
+    // the envelope's lines up to the highest harmonic sought, twice over.
+    if (chosen_high_hz_ == 0.0) {
+      const double min_width = 2.0 * static_cast<double>(env.harmonics) * highest;
+      auto kurtogram = estimators::ComputeKurtogram(samples_, sample_rate_hz_, 5, min_width);
+      if (kurtogram.ok()) {
+        chosen_low_hz_ = kurtogram->best.low_hz;
+        chosen_high_hz_ = kurtogram->best.high_hz;
+      }
+    }
+    band_low = chosen_low_hz_;
+    band_high = chosen_high_hz_;
+  }
   std::optional<estimators::AveragedSpectrum> envelope;
-  if (defects.ok()) {
+  if (defects.ok() && band_high > band_low) {
     estimators::EnvelopeOptions options;
     options.sample_rate_hz = sample_rate_hz_;
-    options.band_low_hz = env.band_low_hz;
-    options.band_high_hz = env.band_high_hz;
+    options.band_low_hz = band_low;
+    options.band_high_hz = band_high;
     options.segment_length = env.segment_length;
     options.overlap = env.segment_length / 2;
     auto spectrum = estimators::EnvelopeSpectrum(samples_, options);
     if (spectrum.ok() && spectrum->segment_count > 0) envelope = std::move(spectrum).value();
   }
   const std::string energy_unit = config::EnvelopeEnergyUnit(sample_unit_);
-  double highest = 0.0;
-  for (const Line& line : lines) highest = std::max(highest, line.hz);
   for (const Line& line : lines) {
     double energy = kNaN;
     double ratio = kNaN;
@@ -168,7 +185,7 @@ void PointDiagnostics::AddEnvelopeMeasures(double shaft_hz,
       // The background: the low part of the envelope spectrum where the lines are sought, never
       // beyond the demodulation band's width (a squared envelope holds nothing above it).
       search.background_max_hz =
-          std::min(env.band_high_hz - env.band_low_hz,
+          std::min(band_high - band_low,
                    1.5 * highest * static_cast<double>(std::max<std::size_t>(env.harmonics, 1)));
       auto found = estimators::FindHarmonicLines(*envelope, search);
       if (found.ok() && !found->empty()) {

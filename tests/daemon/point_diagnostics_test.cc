@@ -273,9 +273,12 @@ PointSettings BearingPoint(SpeedBoard* board) {
   return s;
 }
 
-std::vector<storage::MeasurementRecord> RunBearing(bool faulty, unsigned seed) {
+std::vector<storage::MeasurementRecord> RunBearing(bool faulty, unsigned seed,
+                                                   bool kurtogram_band = false) {
   SpeedBoard board;
   PointSettings settings = BearingPoint(&board);
+  if (kurtogram_band) settings.diagnostics.envelope->band_low_hz = 0.0;
+  if (kurtogram_band) settings.diagnostics.envelope->band_high_hz = 0.0;
   const double bpfo = settings.diagnostics.bearing->bpfo * 24.8;
   auto sink = std::make_shared<CollectingSink>();
   auto pipeline = Make(settings, sink);
@@ -327,6 +330,18 @@ TEST(PointDiagnostics, EnvelopeMeasureStaysAtBackgroundForAHealthyBearing) {
       // The same noise with the fault added: the line energy at BPFO is several times larger.
       EXPECT_GT(f["env_bpfo"].rms, 2.0 * h["env_bpfo"].rms) << "seed " << seed;
     }
+  }
+}
+
+TEST(PointDiagnostics, KurtogramChoosesTheBandWhenNoneIsConfigured) {
+  // Same fault, no demodulation band: the kurtogram picks one around the 3 kHz resonance (see
+  // tests/estimators/kurtogram_test.cc) and BPFO stands out as with the hand-chosen 2-4 kHz band.
+  const auto records = RunBearing(true, 20261202, /*kurtogram_band=*/true);
+  ASSERT_EQ(records.size(), 3u);
+  for (const auto& record : records) {
+    auto r = ByName(record);
+    EXPECT_GT(r["env_bpfo_ratio"].rms, 5.0);
+    EXPECT_LT(r["env_ftf_ratio"].rms, 2.0);
   }
 }
 

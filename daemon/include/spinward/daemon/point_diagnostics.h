@@ -100,13 +100,17 @@ class PointDiagnostics {
     SpeedSource source = SpeedSource::kNominal;
   };
   Speed CurrentSpeed(const estimators::AveragedSpectrum& spectrum, std::int64_t end_ns) const;
-  void AddEnvelopeMeasures(double shaft_hz, std::vector<storage::BandReading>& out) const;
+  void AddEnvelopeMeasures(double shaft_hz, std::vector<storage::BandReading>& out);
 
   DiagnosticSettings settings_;
   double sample_rate_hz_;
   estimators::Unit sample_unit_;
   SpeedBoard* board_;
   std::vector<double> samples_;
+  // The demodulation band the kurtogram chose (when the settings give none); kept for the life of
+  // the pipeline, so successive values compare like with like.
+  double chosen_low_hz_ = 0.0;
+  double chosen_high_hz_ = 0.0;
 };
 
 }  // namespace spinward::daemon
