@@ -62,6 +62,41 @@ TEST(LearnedBaseline, IsoBaselineRuleTakesTheLearnedMedian) {
   EXPECT_DOUBLE_EQ(rules[1].high_danger, 0.2);
 }
 
+TEST(LearnedBaseline, AlarmsOnMachineAwareMeasuresBecomeRulesInTheirUnits) {
+  config::LoadedSite loaded = config::ParseSiteText(R"(site: {name: Larkfield}
+machines:
+  - id: P-101
+    speed_rpm: 1480
+    vanes: 6
+    bearing: {ftf: 0.398, bpfo: 3.585, bpfi: 5.415, bsf: 2.357}
+profiles: [{id: p}]
+points:
+  - id: P101-DE-H
+    machine: P-101
+    sensor: S
+    sample_rate_hz: 25600
+    profile: p
+    order_bands: [{name: vp, order: vane_pass}]
+    envelope: {lo_hz: 2000, hi_hz: 4000}
+    alarms:
+      - {measure: env_bpfo_ratio, alert: 4, danger: 8}
+      - {measure: env_bpfo, alert: 0.05, danger: 0.1}
+      - {measure: vp, alert: 2, danger: 4}
+      - {measure: speed_rpm, alert: 1600, danger: 1700}
+listeners: [{port: 0}]
+)",
+                                                    "pump.yaml");
+  ASSERT_TRUE(loaded.ok());
+  auto judgements = JudgementsFromSite(loaded.site);
+  ASSERT_TRUE(judgements.ok()) << judgements.message();
+  const auto& rules = (*judgements)[0].rules;
+  ASSERT_EQ(rules.size(), 4u);
+  EXPECT_EQ(rules[0].unit, "");  // a ratio, like crest factor
+  EXPECT_EQ(rules[1].unit, "g^2");
+  EXPECT_EQ(rules[2].unit, "mm/s");
+  EXPECT_EQ(rules[3].unit, "rpm");
+}
+
 TEST(LearnedBaseline, CommandMarksLearnsAndShows) {
   const auto dir = spinward::testing::FreshTempDir("baseline_command");
   const std::string db = (dir / "trend.db").string();
