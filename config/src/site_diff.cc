@@ -29,7 +29,7 @@ bool Same(const ProfileConfig& a, const ProfileConfig& b) {
 
 bool Same(const MachineConfig& a, const MachineConfig& b) {
   return a.name == b.name && a.kind == b.kind && a.speed_rpm == b.speed_rpm &&
-         a.iso_group == b.iso_group && a.support == b.support;
+         a.iso_group == b.iso_group && a.support == b.support && a.diagnostics == b.diagnostics;
 }
 
 bool Same(const AlarmLimitConfig& a, const AlarmLimitConfig& b) {
@@ -77,7 +77,7 @@ bool SamePointKeys(const PointConfig& a, const PointConfig& b) {
          a.sensor == b.sensor && Same(a.sensitivity, b.sensitivity) && a.unit == b.unit &&
          a.sample_rate_hz == b.sample_rate_hz && a.profile == b.profile &&
          SameList(a.bands, b.bands) && SameList(a.alarms, b.alarms) &&
-         Same(a.sensor_checks, b.sensor_checks);
+         Same(a.sensor_checks, b.sensor_checks) && a.diagnostics == b.diagnostics;
 }
 
 // Both referenced entries missing counts as the same; one missing as a change.

@@ -15,6 +15,7 @@
 #include <sstream>
 #include <utility>
 
+#include "diagnostics_loader.h"
 #include "spinward/config/nearest_key.h"
 #include "spinward/config/point_options.h"
 #include "yaml_map_reader.h"
@@ -30,14 +31,17 @@ using internal::QuoteValue;
 constexpr std::array<std::string_view, 8> kTopKeys{
     "site", "machines", "profiles", "points", "listeners", "drop_directory", "storage", "logging"};
 constexpr std::array<std::string_view, 1> kSiteKeys{"name"};
-constexpr std::array<std::string_view, 6> kMachineKeys{"id",        "name",      "kind",
-                                                       "speed_rpm", "iso_group", "support"};
+// The last keys of machines and points are the machine-aware ones (diagnostics_loader.h).
+constexpr std::array<std::string_view, 10> kMachineKeys{
+    "id",      "name",    "kind",  "speed_rpm",    "iso_group",
+    "support", "bearing", "vanes", "speed_source", "speed_search_percent"};
 constexpr std::array<std::string_view, 9> kProfileKeys{
     "id",      "segment",   "overlap",    "fft_length",     "window",
     "detrend", "averaging", "interval_s", "time_constant_s"};
-constexpr std::array<std::string_view, 12> kPointKeys{
-    "id",    "machine",        "location", "direction", "sensor", "sensitivity",
-    "units", "sample_rate_hz", "profile",  "bands",     "alarms", "sensor_checks"};
+constexpr std::array<std::string_view, 15> kPointKeys{
+    "id",          "machine",       "location",       "direction",   "sensor",
+    "sensitivity", "units",         "sample_rate_hz", "profile",     "bands",
+    "alarms",      "sensor_checks", "tachometer",     "order_bands", "envelope"};
 constexpr std::array<std::string_view, 5> kBandKeys{"name", "lo_hz", "hi_hz", "quantity", "units"};
 constexpr std::array<std::string_view, 7> kListenerKeys{
     "type",           "address",         "port",         "max_connections",
@@ -142,6 +146,7 @@ class SiteLoader {
     ReadMachines(top);
     ReadProfiles(top);
     ReadPoints(top);
+    CheckTachometers(top);
     ReadListeners(top);
     ReadDropDirectory(top);
     ReadStorage(top);
@@ -153,6 +158,26 @@ class SiteLoader {
     if (top.Find("listeners") == nullptr && top.Find("drop_directory") == nullptr) {
       problems_.Add(top.mark(), "listeners",
                     "no sample source: give listeners, a drop_directory or both");
+    }
+  }
+
+  // A machine whose speed comes from a tachometer needs exactly one point that carries its pulses.
+  void CheckTachometers(MapReader& top) {
+    for (std::size_t i = 0; i < site_.machines.size(); ++i) {
+      const MachineConfig& machine = site_.machines[i];
+      if (machine.diagnostics.speed_source != SpeedSourceKind::kTachometer) continue;
+      std::size_t count = 0;
+      for (const auto& point : site_.points) {
+        count += point.machine == machine.id && point.diagnostics.tachometer ? 1 : 0;
+      }
+      if (count != 1) {
+        problems_.Add(top.ValueMark("machines"), Indexed("machines", i) + ".speed_source",
+                      "machine " + QuoteValue(machine.id) +
+                          " takes its speed from a tachometer "
+                          "but " +
+                          std::to_string(count) +
+                          " of its points have tachometer: true; exactly one must");
+      }
     }
   }
 
@@ -202,6 +227,7 @@ class SiteLoader {
         }
       }
       entry.ReadParsed("support", machine.support, Need::kOptional, ParseMachineSupport);
+      internal::ReadMachineDiagnostics(problems_, entry, machine);
       site_.machines.push_back(std::move(machine));
     }
   }
@@ -354,6 +380,8 @@ class SiteLoader {
         }
       }
       ReadBands(entry, point, rate_ok);
+      internal::ReadPointDiagnostics(problems_, entry, point, site_.FindMachine(point.machine),
+                                     rate_ok);
       ReadAlarms(entry, point);
       ReadSensorChecks(entry, point);
       site_.points.push_back(std::move(point));
@@ -535,6 +563,7 @@ class SiteLoader {
       if (!band.name.empty()) known.push_back(band.name);
     }
     for (const auto& overall : kOverallMeasures) known.emplace_back(overall.name);
+    for (const auto& name : DiagnosticMeasureNames(point)) known.push_back(name);
     std::map<std::string, int, std::less<>> seen;
     auto items = point_entry.ReadList("alarms", Need::kOptional);
     for (std::size_t k = 0; k < items.size(); ++k) {
@@ -543,12 +572,14 @@ class SiteLoader {
       AlarmLimitConfig alarm;
       const estimators::BandSpec* band = nullptr;
       const OverallMeasure* overall = nullptr;
+      bool diagnostic = false;  // speed, an order band or an envelope measure
       if (entry.ReadString("measure", alarm.measure, Need::kRequired)) {
         for (const auto& candidate : point.bands) {
           if (candidate.name == alarm.measure) band = &candidate;
         }
         overall = FindOverallMeasure(alarm.measure);
-        if (band == nullptr && overall == nullptr) {
+        diagnostic = DiagnosticMeasureUnit(point, alarm.measure).has_value();
+        if (band == nullptr && overall == nullptr && !diagnostic) {
           entry.Report("measure", UnknownMeasure(alarm.measure, known));
         } else {
           CheckUnique(seen, entry, "measure", alarm.measure, "alarm on measure");
@@ -572,7 +603,12 @@ class SiteLoader {
       });
 
       if (alarm.preset == AlarmPreset::kIso10816_3) {
-        CheckPreset(entry, point, band, overall);
+        if (diagnostic) {
+          entry.Report("preset", "preset 'iso10816-3' judges a broad-band velocity band in mm/s; " +
+                                     QuoteValue(alarm.measure) + " is a machine-aware measure");
+        } else {
+          CheckPreset(entry, point, band, overall);
+        }
       } else if (preset_ok || !entry.Has("preset")) {
         for (const char* key : {"alert", "danger"}) {
           if (!entry.Has(key)) {

@@ -66,6 +66,51 @@ Status PointSettings::Validate() const {
       return Status::Fail("point " + point_id + ": band " + band.name + ": " + s.message());
     }
   }
+  return ValidateDiagnostics();
+}
+
+// The interval's samples feed the envelope spectrum: it must hold at least one envelope segment.
+Status PointSettings::ValidateDiagnostics() const {
+  const DiagnosticSettings& d = diagnostics;
+  if (!d.Active()) return Status::Ok();
+  const std::string where = "point " + point_id + ": ";
+  if (d.machine_id.empty()) return Status::Fail(where + "diagnostics need the machine id");
+  if (!(d.nominal_shaft_hz > 0.0) || !std::isfinite(d.nominal_shaft_hz)) {
+    return Status::Fail(where + "nominal shaft speed " + std::to_string(d.nominal_shaft_hz) +
+                        " Hz must be positive");
+  }
+  if (!(d.speed_search_fraction > 0.0 && d.speed_search_fraction < 1.0)) {
+    return Status::Fail(where + "speed search fraction must be in (0, 1)");
+  }
+  for (const auto& order : d.order_bands) {
+    if (Status s = order.Validate(); !s.ok()) return Status::Fail(where + s.message());
+  }
+  if (d.bearing) {
+    if (Status s = d.bearing->Validate(); !s.ok())
+      return Status::Fail(where + "bearing " + s.message());
+  }
+  if (d.envelope) {
+    if (!d.bearing) return Status::Fail(where + "envelope measures need the machine's bearing");
+    const EnvelopeSettings& e = *d.envelope;
+    const bool automatic = e.band_low_hz == 0.0 && e.band_high_hz == 0.0;
+    if (!automatic && !(e.band_low_hz >= 0.0 && e.band_high_hz > e.band_low_hz &&
+                        e.band_high_hz <= sample_rate_hz / 2.0)) {
+      return Status::Fail(where + "envelope band " + std::to_string(e.band_low_hz) + "-" +
+                          std::to_string(e.band_high_hz) + " Hz must lie in [0, " +
+                          std::to_string(sample_rate_hz / 2.0) + "] with low below high");
+    }
+    if (e.harmonics < 1) return Status::Fail(where + "envelope harmonics must be at least 1");
+    if (!(e.tolerance > 0.0 && e.tolerance < 0.5)) {
+      return Status::Fail(where + "envelope tolerance must be in (0, 0.5)");
+    }
+    const std::size_t interval_samples =
+        welch.segment_length + (welch.segments_per_average - 1) * welch.Hop();
+    if (e.segment_length < 16 || e.segment_length > interval_samples) {
+      return Status::Fail(where + "envelope segment " + std::to_string(e.segment_length) +
+                          " samples must be at least 16 and fit in the interval's " +
+                          std::to_string(interval_samples) + " samples");
+    }
+  }
   return Status::Ok();
 }
 
@@ -80,7 +125,11 @@ Result<std::unique_ptr<ChannelPipeline>> ChannelPipeline::Create(PointSettings s
 
 ChannelPipeline::ChannelPipeline(PointSettings settings, estimators::StreamingWelch welch,
                                  std::shared_ptr<RecordSink> sink)
-    : settings_(std::move(settings)), welch_(std::move(welch)), sink_(std::move(sink)) {}
+    : settings_(std::move(settings)),
+      welch_(std::move(welch)),
+      sink_(std::move(sink)),
+      diagnostics_(settings_.diagnostics, settings_.sample_rate_hz, settings_.sample_unit,
+                   settings_.speed_board) {}
 
 std::int64_t ChannelPipeline::TimeOfRunSample(std::uint64_t index) const {
   return run_start_ns_ + static_cast<std::int64_t>(std::llround(static_cast<double>(index) * 1e9 /
@@ -131,6 +180,7 @@ void ChannelPipeline::Restart(const SampleBlock& block) {
       Emit(welch_.TakeAverage(), TimeOfRunSample(run_samples_));
     } else {
       indicators_.Reset();
+      diagnostics_.Reset();
       interval_open_ = false;
     }
   }
@@ -222,6 +272,7 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
     welch_.Push(piece, on_average).IgnoreError();  // finite already checked above
     counters_.segments += welch_.segments_total() - segments_before;
     indicators_.Add(piece);
+    diagnostics_.Add(piece);
     CountSensorFacts(piece);
     run_samples_ += take;
     pos += take;
@@ -263,6 +314,9 @@ void ChannelPipeline::Emit(estimators::AveragedSpectrum spectrum, std::int64_t e
     reading.hi_hz = band.hi_hz;
     auto value = estimators::IntegrateBand(spectrum, band, settings_.sample_unit);
     reading.rms = value.ok() ? value->rms : std::numeric_limits<double>::quiet_NaN();
+    record.bands.push_back(std::move(reading));
+  }
+  for (auto& reading : diagnostics_.Measure(spectrum, end_ns)) {
     record.bands.push_back(std::move(reading));
   }
   record.spectrum = std::move(spectrum);

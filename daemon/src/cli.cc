@@ -18,6 +18,7 @@ constexpr CommandEntry kCommands[] = {
     {"ack", CommandAck, "acknowledge a point's active or latched alarms"},
     {"alarms", CommandAlarms, "list alarm events from the trend database (CSV or JSON)"},
     {"analyze", CommandAnalyze, "compute a Welch PSD and band values from a recording (WAV, CSV, raw)"},
+    {"baseline", CommandBaseline, "learn a point's baselines (median, MAD) and limits from its trends"},
     {"check-config", CommandCheckConfig, "check a site file: list its problems or summarise it"},
     {"demo", CommandDemo, "run the built-in demonstration (an invented booster pump station)"},
     {"feed", CommandFeed, "act as an acquisition box: stream frames to a daemon over TCP or UDP"},

@@ -11,6 +11,7 @@ using Arguments = std::vector<std::string>;
 int CommandAck(const Arguments& args);
 int CommandAlarms(const Arguments& args);
 int CommandAnalyze(const Arguments& args);
+int CommandBaseline(const Arguments& args);
 int CommandCheckConfig(const Arguments& args);
 int CommandDemo(const Arguments& args);
 int CommandFeed(const Arguments& args);

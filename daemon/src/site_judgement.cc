@@ -6,6 +6,7 @@
 
 #include "spinward/daemon/iso_presets.h"
 #include "spinward/estimators/units.h"
+#include "spinward/storage/baseline_store.h"
 
 namespace spinward::daemon {
 namespace {
@@ -24,12 +25,14 @@ Result<std::string> MeasureUnit(const config::PointConfig& point, const std::str
   if (const config::OverallMeasure* overall = config::FindOverallMeasure(measure)) {
     return overall->dimensionless ? std::string() : std::string(estimators::ToString(point.unit));
   }
+  if (auto unit = config::DiagnosticMeasureUnit(point, measure)) return *unit;
   return Error{"point " + point.id + " has no band or overall indicator named '" + measure + "'"};
 }
 
 Result<IsoPresetLimits> PresetLimits(const config::SiteConfig& site,
                                      const config::PointConfig& point,
-                                     const config::AlarmLimitConfig& alarm) {
+                                     const config::AlarmLimitConfig& alarm,
+                                     const LearnedBaseline* learned) {
   const config::MachineConfig* machine = site.FindMachine(point.machine);
   if (machine == nullptr) {
     return Error{Where(point, alarm) +
@@ -47,13 +50,14 @@ Result<IsoPresetLimits> PresetLimits(const config::SiteConfig& site,
                                  ? IsoSupport::kRigid
                                  : IsoSupport::kFlexible;
   if (!alarm.baseline) return IsoAbsoluteLimits(group, support);
-  auto limits = IsoBaselineLimits(group, support, *alarm.baseline);
+  const double baseline = learned != nullptr ? learned->median : *alarm.baseline;
+  auto limits = IsoBaselineLimits(group, support, baseline);
   if (!limits.ok()) return Error{Where(point, alarm) + limits.message()};
   return limits;
 }
 
 Result<AlarmRule> RuleFrom(const config::SiteConfig& site, const config::PointConfig& point,
-                           const config::AlarmLimitConfig& alarm) {
+                           const config::AlarmLimitConfig& alarm, const LearnedBaseline* learned) {
   AlarmRule rule;
   rule.point_id = point.id;
   rule.measure = alarm.measure;
@@ -66,7 +70,7 @@ Result<AlarmRule> RuleFrom(const config::SiteConfig& site, const config::PointCo
                    "alert and danger come from preset iso10816-3; "
                    "they may not be given as well"};
     }
-    auto limits = PresetLimits(site, point, alarm);
+    auto limits = PresetLimits(site, point, alarm, learned);
     if (!limits.ok()) return Error{limits.message()};
     rule.high_alert = limits->alert;
     rule.high_danger = limits->danger;
@@ -110,6 +114,18 @@ SensorHealthOptions SensorOptionsFrom(const config::SensorChecksConfig& checks) 
 }  // namespace
 
 Result<std::vector<PointJudgement>> JudgementsFromSite(const config::SiteConfig& site) {
+  return JudgementsFromSite(site, {});
+}
+
+Result<std::vector<PointJudgement>> JudgementsFromSite(
+    const config::SiteConfig& site, const std::vector<LearnedBaseline>& learned) {
+  auto find_learned = [&](const std::string& point, const std::string& measure) {
+    const LearnedBaseline* found = nullptr;
+    for (const auto& baseline : learned) {
+      if (baseline.point == point && baseline.measure == measure) found = &baseline;
+    }
+    return found;
+  };
   std::vector<PointJudgement> judgements;
   judgements.reserve(site.points.size());
   for (const auto& point : site.points) {
@@ -120,8 +136,22 @@ Result<std::vector<PointJudgement>> JudgementsFromSite(const config::SiteConfig&
       return Error{"point " + point.id + ": " + valid.message()};
     }
     for (const auto& alarm : point.alarms) {
-      auto rule = RuleFrom(site, point, alarm);
+      auto rule = RuleFrom(site, point, alarm, find_learned(point.id, alarm.measure));
       if (!rule.ok()) return Error{rule.message()};
+      judgement.rules.push_back(*std::move(rule));
+    }
+    for (const auto& baseline : learned) {
+      if (baseline.point != point.id) continue;
+      bool configured = false;
+      for (const auto& alarm : point.alarms)
+        configured = configured || alarm.measure == baseline.measure;
+      if (configured || !MeasureUnit(point, baseline.measure).ok()) continue;
+      config::AlarmLimitConfig alarm;
+      alarm.measure = baseline.measure;
+      alarm.alert = baseline.alert;
+      alarm.danger = baseline.danger;
+      auto rule = RuleFrom(site, point, alarm, nullptr);
+      if (!rule.ok()) continue;  // e.g. limits not above one another: no learned alarm
       judgement.rules.push_back(*std::move(rule));
     }
     judgements.push_back(std::move(judgement));
@@ -139,6 +169,23 @@ storage::StoreOptions StoreOptionsFromSite(const config::SiteConfig& site) {
   options.retention.daily_days = site.storage.retention.daily_days;
   options.retention.spectrum_days = site.storage.retention.spectrum_days;
   return options;
+}
+
+}  // namespace spinward::daemon
+
+namespace spinward::daemon {
+
+Result<std::vector<LearnedBaseline>> ReadLearnedBaselines(const std::string& path) {
+  auto store = storage::BaselineStore::Open(path);
+  if (!store.ok()) return Error{store.message()};
+  auto rows = store->Rows("");
+  if (!rows.ok()) return Error{rows.message()};
+  std::vector<LearnedBaseline> learned;
+  for (const auto& row : *rows) {
+    if (!row.learned_ns || !row.median || !row.alert || !row.danger) continue;
+    learned.push_back({row.point, row.measure, *row.median, *row.alert, *row.danger});
+  }
+  return learned;
 }
 
 }  // namespace spinward::daemon

@@ -9,6 +9,7 @@
 // Thread-safety: pure functions.
 #pragma once
 
+#include <string>
 #include <vector>
 
 #include "spinward/config/site_config.h"
@@ -19,6 +20,23 @@
 namespace spinward::daemon {
 
 Result<std::vector<PointJudgement>> JudgementsFromSite(const config::SiteConfig& site);
+
+// A learned baseline (storage/baseline_store.h) as the judgement uses it.
+struct LearnedBaseline {
+  std::string point;
+  std::string measure;
+  double median = 0.0;
+  double alert = 0.0;
+  double danger = 0.0;
+};
+// As above, with learned baselines: an ISO 10816-3 alarm with a `baseline:` takes the learned
+// median of its measure as the baseline instead of the configured value; a measure without a
+// configured alarm gets one at the learned alert and danger limits (other settings at their
+// defaults). Baselines of points or measures the site no longer has are ignored.
+Result<std::vector<PointJudgement>> JudgementsFromSite(const config::SiteConfig& site,
+                                                       const std::vector<LearnedBaseline>& learned);
+// The learned baselines in the database at `path` (none when it holds no baselines table yet).
+Result<std::vector<LearnedBaseline>> ReadLearnedBaselines(const std::string& path);
 
 storage::StoreOptions StoreOptionsFromSite(const config::SiteConfig& site);
 

@@ -6,6 +6,45 @@
 #include "spinward/daemon/sensor_health.h"
 
 namespace spinward::daemon {
+namespace {
+
+DiagnosticSettings DiagnosticsFor(const config::SiteConfig& site,
+                                  const config::PointConfig& point) {
+  DiagnosticSettings d;
+  const config::MachineConfig* machine = site.FindMachine(point.machine);
+  if (machine == nullptr) return d;
+  const config::MachineDiagnosticsConfig& m = machine->diagnostics;
+  d.machine_id = machine->id;
+  d.nominal_shaft_hz = machine->speed_rpm / 60.0;
+  switch (m.speed_source) {
+    case config::SpeedSourceKind::kNominal:
+      d.speed_source = SpeedSource::kNominal;
+      break;
+    case config::SpeedSourceKind::kTachometer:
+      d.speed_source = SpeedSource::kTachometer;
+      break;
+    case config::SpeedSourceKind::kSpectrum:
+      d.speed_source = SpeedSource::kSpectrum;
+      break;
+  }
+  d.speed_search_fraction = m.speed_search_percent / 100.0;
+  d.tachometer = point.diagnostics.tachometer;
+  d.order_bands = point.diagnostics.order_bands;
+  d.bearing = m.bearing;
+  if (point.diagnostics.envelope) {
+    const config::EnvelopeConfig& e = *point.diagnostics.envelope;
+    EnvelopeSettings envelope;
+    envelope.band_low_hz = e.lo_hz;
+    envelope.band_high_hz = e.hi_hz;
+    envelope.segment_length = e.segment;
+    envelope.harmonics = e.harmonics;
+    envelope.tolerance = e.tolerance_percent / 100.0;
+    d.envelope = envelope;
+  }
+  return d;
+}
+
+}  // namespace
 
 PointSettings PointSettingsFor(const config::SiteConfig& site, const config::PointConfig& point) {
   PointSettings settings;
@@ -21,6 +60,7 @@ PointSettings PointSettingsFor(const config::SiteConfig& site, const config::Poi
     health.full_scale = point.sensor_checks.full_scale;
     settings.clip_level = health.ClipLevel();
   }
+  settings.diagnostics = DiagnosticsFor(site, point);
   return settings;
 }
 

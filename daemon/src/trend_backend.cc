@@ -18,11 +18,13 @@ Result<std::unique_ptr<TrendBackend>> TrendBackend::Open(const config::SiteConfi
   std::unique_ptr<TrendBackend> backend(new TrendBackend());
   backend->path_ = site.storage.path;
   backend->log_ = std::move(log);
-  auto judgements = JudgementsFromSite(site);
-  if (!judgements.ok()) return Error{judgements.message()};
   const auto options = StoreOptionsFromSite(site);
   auto store = storage::TrendStore::Open(site.storage.path, options);
   if (!store.ok()) return Error{store.message()};
+  auto learned = ReadLearnedBaselines(site.storage.path);
+  if (!learned.ok()) return Error{learned.message()};
+  auto judgements = JudgementsFromSite(site, *learned);
+  if (!judgements.ok()) return Error{judgements.message()};
   auto states = store->LoadAlarmStates();
   if (!states.ok()) return Error{states.message()};
   auto acks = store->AcknowledgementsAfter(0);
@@ -88,8 +90,12 @@ void TrendBackend::ApplyNewAcknowledgements() {
   }
 }
 
+// Learned baselines take effect here too: `spinward baseline POINT --show` learns them, a reload
+// (SIGHUP) applies them.
 Status TrendBackend::Reconfigure(const config::SiteConfig& site) {
-  auto judgements = JudgementsFromSite(site);
+  auto learned = ReadLearnedBaselines(path_);
+  if (!learned.ok()) return Status::Fail(learned.message());
+  auto judgements = JudgementsFromSite(site, *learned);
   if (!judgements.ok()) return Status::Fail(judgements.message());
   return stage_->Reconfigure(*judgements);
 }

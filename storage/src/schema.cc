@@ -133,7 +133,25 @@ constexpr const char* kToVersion3 = R"sql(
 ALTER TABLE alarm_state ADD COLUMN engine_state TEXT NOT NULL DEFAULT '';
 )sql";
 
-constexpr const char* kSteps[] = {kToVersion1, kToVersion2, kToVersion3};
+// Version 4: learned baselines, one row per point and measure (baseline_store.h). A row whose
+// learned_ns is NULL is still learning: its period [start_ns, end_ns) has not been evaluated.
+constexpr const char* kToVersion4 = R"sql(
+CREATE TABLE baselines (
+  point       TEXT NOT NULL,
+  measure     TEXT NOT NULL,
+  median      REAL,
+  mad         REAL,
+  count       INTEGER NOT NULL DEFAULT 0,
+  start_ns    INTEGER NOT NULL,
+  end_ns      INTEGER NOT NULL,
+  learned_ns  INTEGER,
+  alert       REAL,
+  danger      REAL,
+  PRIMARY KEY (point, measure)
+);
+)sql";
+
+constexpr const char* kSteps[] = {kToVersion1, kToVersion2, kToVersion3, kToVersion4};
 static_assert(std::size(kSteps) == kSchemaVersion, "one migration step per schema version");
 
 }  // namespace

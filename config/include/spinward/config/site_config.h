@@ -15,6 +15,7 @@
 #include <string_view>
 #include <vector>
 
+#include "spinward/config/diagnostics_config.h"
 #include "spinward/estimators/band_integrator.h"
 #include "spinward/estimators/result.h"
 #include "spinward/estimators/streaming_welch.h"
@@ -96,6 +97,7 @@ struct MachineConfig {
   double speed_rpm = 0.0;  // required: nominal running speed
   int iso_group = 2;       // ISO 10816-3 group: 1 (300 kW to 50 MW) or 2 (15 kW to 300 kW)
   MachineSupport support = MachineSupport::kRigid;
+  MachineDiagnosticsConfig diagnostics;  // bearing, vanes, speed source (diagnostics_config.h)
 };
 
 // Estimator settings shared by points. The overlap is held in samples: a percentage in the file is
@@ -161,6 +163,7 @@ struct PointConfig {
   std::vector<estimators::BandSpec> bands;       // the band's unit says its quantity
   std::vector<AlarmLimitConfig> alarms;          // at most one per measure
   SensorChecksConfig sensor_checks;
+  PointDiagnosticsConfig diagnostics;  // tachometer, order bands, envelope (diagnostics_config.h)
 };
 
 struct ListenerConfig {

@@ -21,6 +21,7 @@
 #include <string>
 #include <vector>
 
+#include "spinward/daemon/point_diagnostics.h"
 #include "spinward/daemon/record_sink.h"
 #include "spinward/daemon/sample_block.h"
 #include "spinward/estimators/band_integrator.h"
@@ -42,8 +43,12 @@ struct PointSettings {
   std::int64_t time_jump_tolerance_ns = 1'000'000;     // 1 ms; common practice, no source
   // Samples at or beyond +-clip_level (sample units) are counted for the clipping check.
   std::optional<double> clip_level;
+  // Machine-aware measures (speed, order bands, envelope); inactive by default.
+  DiagnosticSettings diagnostics;
+  SpeedBoard* speed_board = nullptr;  // null: SpeedBoard::Shared()
 
   Status Validate() const;
+  Status ValidateDiagnostics() const;
   bool operator==(const PointSettings&) const = default;
 };
 
@@ -101,6 +106,7 @@ class ChannelPipeline {
   estimators::StreamingWelch welch_;
   std::shared_ptr<RecordSink> sink_;
   estimators::IndicatorAccumulator indicators_;
+  PointDiagnostics diagnostics_;
   PipelineCounters counters_;
   std::vector<double> scaled_;  // reused per block: the hot path does not allocate in steady state
 

@@ -23,7 +23,7 @@
 namespace spinward::storage {
 
 // The schema version this build writes (PRAGMA user_version).
-inline constexpr int kSchemaVersion = 3;
+inline constexpr int kSchemaVersion = 4;
 // trend_values.flags bits.
 inline constexpr std::int64_t kFlagSensorFault = 1;
 
