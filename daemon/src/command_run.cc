@@ -12,6 +12,7 @@
 #include "daemon_logging.h"
 #include "log_sink.h"
 #include "option_reader.h"
+#include "run_outlets.h"
 #include "spinward/config/site_diff.h"
 #include "spinward/config/site_loader.h"
 #include "spinward/daemon/json_lines_sink.h"
@@ -42,7 +43,8 @@ constexpr const char* kRunHelp =
 
 std::string LevelName(config::LogLevel level) { return std::string(config::ToString(level)); }
 
-void WriteReadyFile(const std::string& path, const MonitoringService& service) {
+void WriteReadyFile(const std::string& path, const MonitoringService& service,
+                    std::uint16_t health_port) {
   std::ofstream out(path + ".tmp");
   out << "{\"pid\":" << ::getpid() << ",\"listeners\":[";
   bool first = true;
@@ -51,7 +53,7 @@ void WriteReadyFile(const std::string& path, const MonitoringService& service) {
         << "\",\"port\":" << l.port << "}";
     first = false;
   }
-  out << "]}\n";
+  out << "],\"health_port\":" << health_port << "}\n";
   out.close();
   std::rename((path + ".tmp").c_str(), path.c_str());  // readers never see a half-written file
 }
@@ -123,6 +125,13 @@ int CommandRun(const Arguments& args) {
   }
   sinks->Add((*backend)->Sink());
   LogLine("info", "trends and alarms in " + (*backend)->path());
+  // Messaging and the health endpoint (docs/messaging.md, docs/health.md).
+  auto outlets = RunOutlets::Start(loaded.site, LogLine);
+  if (!outlets.ok()) {
+    LogLine("error", "cannot start: " + outlets.message());
+    return 1;
+  }
+  if (auto bands = (*outlets)->BandSink()) sinks->Add(bands);
 
   ServiceOptions service_options;
   service_options.worker_threads = static_cast<std::size_t>(*workers);
@@ -140,7 +149,9 @@ int CommandRun(const Arguments& args) {
   }
   LogLine("info", "spinward running for site '" + loaded.site.site.name + "' with " +
                       std::to_string(loaded.site.points.size()) + " points");
-  if (auto ready = options->Value("--ready-file")) WriteReadyFile(*ready, **service);
+  (*outlets)->StartHealth(**service, **backend);
+  if (auto ready = options->Value("--ready-file"))
+    WriteReadyFile(*ready, **service, (*outlets)->HealthPort());
 
   auto last_summary = std::chrono::steady_clock::now();
   auto last_tick = std::chrono::steady_clock::now();
@@ -175,7 +186,9 @@ int CommandRun(const Arguments& args) {
                               std::to_string(summary->restarted.size()) + " restarted, " +
                               std::to_string(summary->added.size()) + " added, " +
                               std::to_string(summary->removed.size()) + " removed");
-          if (auto ready = options->Value("--ready-file")) WriteReadyFile(*ready, **service);
+          (*outlets)->SiteChanged(**service);
+          if (auto ready = options->Value("--ready-file"))
+            WriteReadyFile(*ready, **service, (*outlets)->HealthPort());
         }
       }
     }
@@ -197,8 +210,10 @@ int CommandRun(const Arguments& args) {
                           ", sequence gaps " + std::to_string(points.sequence_gaps));
     }
   }
+  (*outlets)->StopHealth();
   (*service)->Stop();
   (*backend)->Stop();
+  (*outlets)->StopMessaging();
   const auto stored = (*backend)->Counters();
   LogLine("info", "storage: " + std::to_string(stored.committed_records) + " records committed, " +
                       std::to_string(stored.dropped_records) + " dropped");
