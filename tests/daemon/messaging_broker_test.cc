@@ -11,6 +11,7 @@
 #include <arpa/inet.h>
 #include <fcntl.h>
 #include <netinet/in.h>
+#include <pwd.h>
 #include <signal.h>
 #include <spawn.h>
 #include <sys/socket.h>
@@ -127,7 +128,10 @@ class Child {
 // Debian's mosquitto with `config` (listener lines included) written to the test's folder.
 std::unique_ptr<Child> StartBroker(const fs::path& dir, const std::string& config, int port) {
   const fs::path conf = dir / "mosquitto.conf";
-  std::ofstream(conf) << config;
+  // Started as root, mosquitto switches to the user named here (mosquitto.conf(5), "user"): keep
+  // the test's own user, who owns the key files and the persistence folder.
+  const passwd* me = ::getpwuid(::getuid());
+  std::ofstream(conf) << "user " << (me != nullptr ? me->pw_name : "root") << "\n" << config;
   auto broker = std::make_unique<Child>(
       std::vector<std::string>{"/usr/sbin/mosquitto", "-c", conf.string()}, dir / "broker.log");
   EXPECT_TRUE(WaitUntil([&] { return Accepting(port) || broker->Exited(); }, kLongWait));
