@@ -170,8 +170,14 @@ int CommandRun(const Arguments& args) {
         LogLine("error", "reload refused: " + *config_path +
                              " is not valid; the running configuration stays");
       } else {
-        if (config::DiffSites((*service)->site(), next.site).storage_changed) {
+        const auto diff = config::DiffSites((*service)->site(), next.site);
+        if (diff.storage_changed) {
           LogLine("warn", "reload: storage settings changed; they take effect at the next start");
+        }
+        if (diff.outlets_changed) {
+          LogLine("warn",
+                  "reload: health or messaging settings changed; they take effect at the next "
+                  "start");
         }
         auto summary = (*service)->Reload(next.site);
         if (!summary.ok()) {
