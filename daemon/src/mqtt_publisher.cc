@@ -30,8 +30,9 @@ std::string Number(double value) {
   return out;
 }
 
-// Worst first: a machine in danger outranks a sensor that needs attention.
-int Severity(const std::string& state) {
+}  // namespace
+
+int StateSeverity(const std::string& state) {
   static const char* const kOrder[] = {"danger", "alert",    "sensor_fault",
                                        "stale",  "learning", "normal"};
   for (int i = 0; i < 6; ++i) {
@@ -40,7 +41,15 @@ int Severity(const std::string& state) {
   return 0;
 }
 
-}  // namespace
+std::map<std::string, std::string> WorstStates(const std::vector<storage::MeasureStatus>& status) {
+  std::map<std::string, std::string> worst;
+  for (const auto& m : status) {
+    if (!m.alarm) continue;
+    auto& w = worst[m.point_id];
+    if (StateSeverity(m.alarm->state) > StateSeverity(w)) w = m.alarm->state;
+  }
+  return worst;
+}
 
 std::string TopicLevel(const std::string& name) {
   std::string out = name;
@@ -182,7 +191,7 @@ struct MqttPublisher::Impl {
       if (!m.alarm) continue;
       auto& view = views[m.point_id];
       const auto& a = *m.alarm;
-      if (Severity(a.state) > Severity(view.worst)) view.worst = a.state;
+      if (StateSeverity(a.state) > StateSeverity(view.worst)) view.worst = a.state;
       view.key += m.measure + "=" + a.state + "@" + std::to_string(a.since_ns) +
                   (a.latched ? "L" : "") + (a.ack_by.empty() ? "" : "A") + ";";
       if (!view.measures.empty()) view.measures += ',';

@@ -1,5 +1,7 @@
 #include "run_outlets.h"
 
+#include <chrono>
+#include <map>
 #include <mutex>
 
 #include "mosquitto_transport.h"
@@ -32,7 +34,8 @@ class ServiceHealth final : public HealthSource {
     const auto stored = backend_.Counters();
     h.storage_backlog_items = stored.backlog_items;
     h.storage_writable = !stored.failing;
-    std::map<std::string, std::string> states;
+    std::map<std::string, std::string> states =
+        publisher_ ? std::map<std::string, std::string>() : StatesFromStore();
     if (publisher_ != nullptr) {
       const auto m = publisher_->Counters();
       h.messaging_configured = true;
@@ -54,6 +57,25 @@ class ServiceHealth final : public HealthSource {
   }
 
  private:
+  // Without messaging, the endpoint reads the alarm states itself, at most once a second, through
+  // a read-only connection of its own (only the server's thread calls Snapshot).
+  std::map<std::string, std::string> StatesFromStore() const {
+    std::lock_guard lock(store_mutex_);
+    const auto now = std::chrono::steady_clock::now();
+    if (now - states_read_ < std::chrono::seconds(1)) return states_;
+    states_read_ = now;
+    if (!reader_) {
+      storage::StoreOptions options;
+      options.quick_check_on_open = false;
+      auto reader = storage::TrendStore::OpenReadOnly(backend_.path(), options);
+      if (!reader.ok()) return states_;
+      reader_ = std::make_unique<storage::TrendStore>(std::move(reader).value());
+    }
+    auto status = reader_->CurrentStatus();
+    if (status.ok()) states_ = WorstStates(*status);
+    return states_;
+  }
+
   const MonitoringService& service_;
   const TrendBackend& backend_;
   const MqttPublisher* publisher_;
@@ -61,6 +83,10 @@ class ServiceHealth final : public HealthSource {
   std::vector<std::string> points_;
   std::vector<BoundListener> listeners_;
   bool drop_directory_ = false;
+  mutable std::mutex store_mutex_;
+  mutable std::unique_ptr<storage::TrendStore> reader_;
+  mutable std::chrono::steady_clock::time_point states_read_{};
+  mutable std::map<std::string, std::string> states_;
 };
 
 }  // namespace

@@ -8,6 +8,7 @@
 // (limits are this test's choice, no source), so a point fed for one interval gives exactly one
 // normal -> danger transition. Delivery order is checked against the database's outbox order
 // (docs/messaging.md: QoS 1, in outbox order, duplicates possible and dropped by event_id).
+// RunHealth: the same daemon without messaging, for the health endpoint alone (docs/health.md).
 #include <arpa/inet.h>
 #include <fcntl.h>
 #include <netinet/in.h>
@@ -206,6 +207,7 @@ struct SiteOptions {
   std::string tls;  // the tls: mapping, flow style
   std::vector<std::string> sensors;
   bool band_values = false;
+  bool messaging = true;
 };
 
 void WriteSite(const fs::path& path, const fs::path& db, const SiteOptions& o) {
@@ -223,8 +225,9 @@ void WriteSite(const fs::path& path, const fs::path& db, const SiteOptions& o) {
   }
   out << "listeners:\n  - {type: tcp, address: 127.0.0.1, port: 0}\n"
       << "storage:\n  path: \"" << db.string() << "\"\n"
-      << "health: {port: 0}\n"
-      << "messaging:\n  host: 127.0.0.1\n  port: " << o.broker_port << "\n  protocol: \""
+      << "health: {port: 0}\n";
+  if (!o.messaging) return;
+  out << "messaging:\n  host: 127.0.0.1\n  port: " << o.broker_port << "\n  protocol: \""
       << o.protocol << "\"\n  topic_prefix: water\n  reconnect_min_s: 1\n  reconnect_max_s: 2\n";
   if (!o.username.empty()) out << "  username: " << o.username << "\n";
   if (!o.password_file.empty()) out << "  password_file: \"" << o.password_file << "\"\n";
@@ -600,6 +603,48 @@ TEST(MessagingBroker, BadCredentialsAreNamedAndTheDaemonKeepsStoring) {
   auto health = daemon.Health("json", "/healthz");
   EXPECT_EQ(health["broker.connected"], "false");
   EXPECT_EQ(health["storage.writable"], "true");
+  EXPECT_EQ(daemon.child().Stop(), 0) << daemon.child().Log();
+}
+
+// The health endpoint of `spinward run` without messaging: ready with no broker to wait for,
+// counters that move as frames arrive, and point states read from the trend database.
+TEST(RunHealth, WithoutMessagingTheEndpointReportsCountersAndStates) {
+  const fs::path dir = spinward::testing::FreshTempDir("run-health");
+  SiteOptions o;
+  o.messaging = false;
+  o.sensors = {"LK-0001", "LK-0002"};
+  WriteSite(dir / "site.yaml", dir / "trends.sqlite", o);
+  Daemon daemon(dir, dir / "site.yaml", 0);
+  ASSERT_TRUE(daemon.WaitReady()) << daemon.child().Log();
+  auto health = daemon.Health("json", "/healthz");
+  EXPECT_EQ(health["ready"], "true");
+  EXPECT_EQ(health["broker"], "null");
+  EXPECT_EQ(health["storage.writable"], "true");
+  auto before = daemon.Health("metrics", "/metrics");
+  EXPECT_EQ(before["sample.spinward_frames_received_total{}"], "0");
+  EXPECT_EQ(before["sample.spinward_storage_writable{}"], "1");
+  EXPECT_EQ(before.count("family.spinward_broker_connected"), 0u);
+  EXPECT_EQ(before["sample.spinward_points_by_state{state=\"unknown\"}"], "2");
+
+  daemon.Feed("LK-", 2);
+  // One second of signal per sensor at 25600 Hz in 2560-sample frames (feed's defaults): 10
+  // frames each.
+  ASSERT_TRUE(WaitUntil(
+      [&] {
+        return daemon.Health("metrics", "/metrics")["sample.spinward_frames_received_total{}"] ==
+               "20";
+      },
+      kLongWait));
+  ASSERT_TRUE(WaitUntil(
+      [&] {
+        auto points = daemon.Health("json", "/api/points");
+        return points["0.state"] == "\"danger\"" && points["1.state"] == "\"danger\"";
+      },
+      kLongWait))
+      << daemon.child().Log();
+  auto after = daemon.Health("metrics", "/metrics");
+  EXPECT_GT(std::stod(after["sample.spinward_bytes_received_total{}"]), 0.0);
+  EXPECT_EQ(after["sample.spinward_points_by_state{state=\"danger\"}"], "2");
   EXPECT_EQ(daemon.child().Stop(), 0) << daemon.child().Log();
 }
 

@@ -20,12 +20,14 @@
 #include <map>
 #include <memory>
 #include <string>
+#include <vector>
 
 #include "spinward/config/site_config.h"
 #include "spinward/daemon/mqtt_transport.h"
 #include "spinward/daemon/record_sink.h"
 #include "spinward/estimators/result.h"
 #include "spinward/storage/measurement_record.h"
+#include "spinward/storage/trend_store.h"
 
 namespace spinward::daemon {
 
@@ -47,6 +49,12 @@ struct PublisherOptions {
   // Wall clock (UTC ns) for status and state times; null: the system clock.
   std::function<std::int64_t()> now_ns;
 };
+
+// Alarm states ranked for a point's summary: danger, alert, sensor_fault, stale, learning,
+// normal (higher is worse; 0 for anything else, e.g. "").
+int StateSeverity(const std::string& state);
+// The worst stored alarm state of each point that has one.
+std::map<std::string, std::string> WorstStates(const std::vector<storage::MeasureStatus>& status);
 
 // Makes a topic level of a name: '/', '+', '#', NUL and white space become '-'.
 std::string TopicLevel(const std::string& name);
