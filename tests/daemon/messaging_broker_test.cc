@@ -208,6 +208,7 @@ struct SiteOptions {
   std::vector<std::string> sensors;
   bool band_values = false;
   bool messaging = true;
+  std::string hook;  // the command_hook: mapping, flow style
 };
 
 void WriteSite(const fs::path& path, const fs::path& db, const SiteOptions& o) {
@@ -233,6 +234,7 @@ void WriteSite(const fs::path& path, const fs::path& db, const SiteOptions& o) {
   if (!o.password_file.empty()) out << "  password_file: \"" << o.password_file << "\"\n";
   if (!o.tls.empty()) out << "  tls: " << o.tls << "\n";
   if (o.band_values) out << "  band_values: {every_intervals: 1, qos: 0}\n";
+  if (!o.hook.empty()) out << "  command_hook: " << o.hook << "\n";
 }
 
 // `spinward run` with a ready file; the health port comes from it.
@@ -561,7 +563,7 @@ TEST(MessagingBroker, TlsWithAClientCertificate) {
   EXPECT_EQ(daemon.child().Stop(), 0);
 }
 
-TEST(MessagingBroker, BadCredentialsAreNamedAndTheDaemonKeepsStoring) {
+TEST(MessagingBroker, BadCredentialsAreNamedAndTheDaemonKeepsStoringAndRunningTheHook) {
   const fs::path dir = spinward::testing::FreshTempDir("mqtt-bad-login");
   const int port = FreePort();
   MakePasswordFile(dir / "passwords", "spinward", "larkfield-2026");
@@ -576,6 +578,11 @@ TEST(MessagingBroker, BadCredentialsAreNamedAndTheDaemonKeepsStoring) {
   o.username = "spinward";
   o.password_file = (dir / "wrong.password").string();
   o.sensors = {"LK-0001", "LK-0002"};
+  // The command hook does not need the broker: a shell script (run directly, not through a shell
+  // by the daemon) appends each alarm it gets on standard input to a file.
+  std::ofstream(dir / "hook.sh") << "cat >> \"$1\"\necho >> \"$1\"\n";
+  o.hook = "{program: /bin/sh, args: [\"" + (dir / "hook.sh").string() + "\", \"" +
+           (dir / "hooked.jsonl").string() + "\"], timeout_s: 20}";
   WriteSite(dir / "site.yaml", dir / "trends.sqlite", o);
   Daemon daemon(dir, dir / "site.yaml", 0);
   ASSERT_TRUE(daemon.WaitReady()) << daemon.child().Log();
@@ -600,6 +607,15 @@ TEST(MessagingBroker, BadCredentialsAreNamedAndTheDaemonKeepsStoring) {
   const Outbox stored = ReadOutbox(dir, dir / "trends.sqlite");
   EXPECT_GT(stored.trend_rows, 0);
   EXPECT_EQ(stored.unsent, 2);
+  ASSERT_TRUE(
+      WaitUntil([&] { return Count(ReadText(dir / "hooked.jsonl"), "\n") == 2; }, kLongWait))
+      << daemon.child().Log();
+  for (const auto& id : stored.event_ids) {
+    EXPECT_NE(ReadText(dir / "hooked.jsonl").find("\"event_id\":\"" + id + "\""),
+              std::string::npos);
+  }
+  EXPECT_TRUE(WaitUntil([&] { return Count(daemon.child().Log(), "for alarm ") == 2; }, kLongWait));
+  EXPECT_EQ(Count(daemon.child().Log(), ": exited with status 0"), 2u) << daemon.child().Log();
   auto health = daemon.Health("json", "/healthz");
   EXPECT_EQ(health["broker.connected"], "false");
   EXPECT_EQ(health["storage.writable"], "true");
