@@ -117,6 +117,13 @@ class Child {
     if (!Exited()) ::kill(pid_, SIGTERM);
     return WaitUntil([&] { return Exited(); }, kLongWait) ? exit_code_ : -1;
   }
+  void Kill() {
+    if (!Exited()) {
+      ::kill(pid_, SIGKILL);
+      ::waitpid(pid_, nullptr, 0);
+      exited_ = true;
+    }
+  }
   std::string Log() const { return ReadText(log_); }
 
  private:
@@ -506,7 +513,7 @@ TEST(MessagingBroker, OutageAndRestartLoseNoAlarmAndKeepTheirOrder) {
   EXPECT_EQ(second.child().Stop(), 0);
 }
 
-TEST(MessagingBroker, TlsWithAClientCertificate) {
+TEST(MessagingBroker, TlsWithAClientCertificateAndTheLastWill) {
   const fs::path dir = spinward::testing::FreshTempDir("mqtt-tls");
   // A private CA, a server certificate for 127.0.0.1 (subjectAltName, RFC 6125) and a client
   // certificate, made with Debian's openssl.
@@ -560,7 +567,19 @@ TEST(MessagingBroker, TlsWithAClientCertificate) {
   const auto status = WithSuffix(Messages(dir, "control-room"), "/status");
   ASSERT_FALSE(status.empty());
   EXPECT_EQ(Field(status[0].payload, "status"), "\"online\"");
-  EXPECT_EQ(daemon.child().Stop(), 0);
+  // Killed without a goodbye: the broker publishes the Last Will, "offline", retained (MQTT 3.1.1
+  // section 3.1.2.5; MQTT 5 section 3.1.2.5).
+  daemon.child().Kill();
+  ASSERT_TRUE(WaitUntil(
+      [&] {
+        auto s = WithSuffix(Messages(dir, "control-room"), "/status");
+        return s.size() >= 2 && Field(s.back().payload, "status") == "\"offline\"";
+      },
+      kLongWait));
+  auto viewer = StartSubscriber(dir, "viewer", plain, "water/+/status", true);
+  ASSERT_TRUE(WaitUntil([&] { return !Messages(dir, "viewer").empty(); }, kLongWait));
+  EXPECT_TRUE(Messages(dir, "viewer")[0].retain);
+  EXPECT_EQ(Field(Messages(dir, "viewer")[0].payload, "status"), "\"offline\"");
 }
 
 TEST(MessagingBroker, BadCredentialsAreNamedAndTheDaemonKeepsStoringAndRunningTheHook) {
