@@ -1,9 +1,10 @@
 #include "spinward/daemon/mqtt_publisher.h"
 
+#include <algorithm>
 #include <condition_variable>
+#include <deque>
 #include <mutex>
 #include <optional>
-#include <set>
 #include <thread>
 
 #include "spinward/daemon/command_hook.h"
@@ -96,7 +97,9 @@ struct MqttPublisher::Impl {
   bool stop = false;
   bool connected = false;
   bool just_connected = false;
-  std::set<int> acknowledged;
+  // Recent acknowledged message ids, oldest first (QoS 1 band values add theirs too; ids wrap at
+  // 65535, so the oldest are dropped rather than the smallest).
+  std::deque<int> acknowledged;
   std::map<std::string, int> intervals_seen;  // point -> intervals since its last band message
   std::map<std::string, std::string> point_states;
   MessagingCounters counters;
@@ -147,14 +150,18 @@ struct MqttPublisher::Impl {
       if (in_flight) {
         {
           std::lock_guard lock(mutex);
-          if (!acknowledged.count(in_flight->id)) return;
+          if (std::find(acknowledged.begin(), acknowledged.end(), in_flight->id) ==
+              acknowledged.end())
+            return;
         }
         if (Status s = store->MarkOutboxSent(in_flight->event_id, Now()); !s.ok()) {
           return StoreFailure("alarm " + in_flight->event_id + " was delivered but " + s.message() +
                               "; it may be delivered again");
         }
         std::lock_guard lock(mutex);
-        acknowledged.erase(in_flight->id);
+        if (auto it = std::find(acknowledged.begin(), acknowledged.end(), in_flight->id);
+            it != acknowledged.end())
+          acknowledged.erase(it);
         ++counters.alarms_published;
         if (counters.outbox_pending > 0) --counters.outbox_pending;
         in_flight.reset();
@@ -319,8 +326,8 @@ Result<std::unique_ptr<MqttPublisher>> MqttPublisher::Start(
   callbacks.on_acknowledged = [raw](int id) {
     {
       std::lock_guard lock(raw->mutex);
-      if (raw->acknowledged.size() > 10000) raw->acknowledged.clear();  // band values' ids
-      raw->acknowledged.insert(id);
+      if (raw->acknowledged.size() >= 1000) raw->acknowledged.pop_front();
+      raw->acknowledged.push_back(id);
     }
     raw->Wake();
   };

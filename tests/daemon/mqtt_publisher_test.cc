@@ -178,6 +178,8 @@ TEST(MqttPublisher, AlarmsLeaveTheOutboxInOrderOnlyAfterTheirAcknowledgement) {
   EXPECT_NE(alarms[3].second.payload.find("ev-3"), std::string::npos);
   ack(alarms[3].first);
   ASSERT_TRUE(WaitUntil([&] { return pending() == 0; }));
+  // The counter follows the database mark on the publisher's thread.
+  ASSERT_TRUE(WaitUntil([&] { return (*publisher)->Counters().alarms_published == 3; }));
   const auto counters = (*publisher)->Counters();
   EXPECT_EQ(counters.alarms_published, 3u);
   EXPECT_EQ(counters.alarms_republished, 1u);
