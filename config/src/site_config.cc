@@ -41,6 +41,8 @@ constexpr Spellings<LogLevel, 5> kLogLevels{{{"trace", LogLevel::kTrace},
 constexpr Spellings<AlarmPreset, 1> kAlarmPresets{{{"iso10816-3", AlarmPreset::kIso10816_3}}};
 constexpr Spellings<Durability, 2> kDurabilities{
     {{"full", Durability::kFull}, {"normal", Durability::kNormal}}};
+constexpr Spellings<MqttProtocol, 2> kMqttProtocols{
+    {{"3.1.1", MqttProtocol::kV311}, {"5", MqttProtocol::kV5}}};
 
 template <typename T, std::size_t N>
 Result<T> ParseSpelling(std::string_view text, const Spellings<T, N>& table,
@@ -110,6 +112,10 @@ std::string_view ToString(AlarmPreset value) {
   return value == AlarmPreset::kNone ? "none" : Spell(value, kAlarmPresets);
 }
 std::string_view ToString(Durability value) { return Spell(value, kDurabilities); }
+Result<MqttProtocol> ParseMqttProtocol(std::string_view text) {
+  return ParseSpelling(text, kMqttProtocols, "MQTT protocol");
+}
+std::string_view ToString(MqttProtocol value) { return Spell(value, kMqttProtocols); }
 
 const OverallMeasure* FindOverallMeasure(std::string_view name) {
   for (const auto& measure : kOverallMeasures) {

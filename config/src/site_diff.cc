@@ -63,6 +63,31 @@ bool Same(const DropFileConfig& a, const DropFileConfig& b) {
          a.sample_rate_hz == b.sample_rate_hz;
 }
 
+bool Same(const HealthConfig& a, const HealthConfig& b) {
+  return a.enabled == b.enabled && a.address == b.address && a.port == b.port;
+}
+
+bool Same(const MessagingConfig& a, const MessagingConfig& b) {
+  auto same_tls = [](const std::optional<MqttTlsConfig>& x, const std::optional<MqttTlsConfig>& y) {
+    if (x.has_value() != y.has_value()) return false;
+    return !x ||
+           (x->ca_file == y->ca_file && x->cert_file == y->cert_file && x->key_file == y->key_file);
+  };
+  auto same_hook = [](const std::optional<CommandHookConfig>& x,
+                      const std::optional<CommandHookConfig>& y) {
+    if (x.has_value() != y.has_value()) return false;
+    return !x || (x->program == y->program && x->args == y->args && x->timeout_s == y->timeout_s);
+  };
+  return a.host == b.host && a.port == b.port && a.client_id == b.client_id &&
+         a.protocol == b.protocol && a.topic_prefix == b.topic_prefix &&
+         a.keepalive_s == b.keepalive_s && a.username == b.username &&
+         a.password_file == b.password_file && same_tls(a.tls, b.tls) &&
+         a.reconnect_min_s == b.reconnect_min_s && a.reconnect_max_s == b.reconnect_max_s &&
+         a.band_values.enabled == b.band_values.enabled &&
+         a.band_values.every_intervals == b.band_values.every_intervals &&
+         a.band_values.qos == b.band_values.qos && same_hook(a.command_hook, b.command_hook);
+}
+
 template <typename Entry>
 bool SameList(const std::vector<Entry>& a, const std::vector<Entry>& b) {
   if (a.size() != b.size()) return false;
@@ -131,6 +156,9 @@ SiteDiff DiffSites(const SiteConfig& before, const SiteConfig& after) {
   diff.storage_changed = !Same(before.storage, after.storage);
   diff.logging_changed =
       before.logging.level != after.logging.level || before.logging.file != after.logging.file;
+  diff.outlets_changed = !Same(before.health, after.health) ||
+                         before.messaging.has_value() != after.messaging.has_value() ||
+                         (before.messaging && !Same(*before.messaging, *after.messaging));
   return diff;
 }
 

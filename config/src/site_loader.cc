@@ -28,8 +28,9 @@ using internal::Need;
 using internal::ProblemList;
 using internal::QuoteValue;
 
-constexpr std::array<std::string_view, 8> kTopKeys{
-    "site", "machines", "profiles", "points", "listeners", "drop_directory", "storage", "logging"};
+constexpr std::array<std::string_view, 10> kTopKeys{
+    "site",           "machines", "profiles", "points", "listeners",
+    "drop_directory", "storage",  "logging",  "health", "messaging"};
 constexpr std::array<std::string_view, 1> kSiteKeys{"name"};
 // The last keys of machines and points are the machine-aware ones (diagnostics_loader.h).
 constexpr std::array<std::string_view, 10> kMachineKeys{
@@ -62,6 +63,23 @@ constexpr std::array<std::string_view, 4> kRetentionKeys{"raw_days", "hourly_day
 // Seconds that still fit in int64 nanoseconds with room to spare (kMaxRetentionDays' bound).
 constexpr double kMaxSeconds = 86400.0 * kMaxRetentionDays;
 constexpr std::array<std::string_view, 2> kLoggingKeys{"level", "file"};
+constexpr std::array<std::string_view, 3> kHealthKeys{"enabled", "address", "port"};
+constexpr std::array<std::string_view, 13> kMessagingKeys{"host",
+                                                          "port",
+                                                          "client_id",
+                                                          "protocol",
+                                                          "topic_prefix",
+                                                          "keepalive_s",
+                                                          "username",
+                                                          "password_file",
+                                                          "tls",
+                                                          "reconnect_min_s",
+                                                          "reconnect_max_s",
+                                                          "band_values",
+                                                          "command_hook"};
+constexpr std::array<std::string_view, 3> kTlsKeys{"ca_file", "cert_file", "key_file"};
+constexpr std::array<std::string_view, 3> kBandValueKeys{"enabled", "every_intervals", "qos"};
+constexpr std::array<std::string_view, 3> kHookKeys{"program", "args", "timeout_s"};
 
 std::string Indexed(std::string_view list, std::size_t index) {
   return std::string(list) + "[" + std::to_string(index) + "]";
@@ -155,6 +173,8 @@ class SiteLoader {
       logging.ReadParsed("level", site_.logging.level, Need::kOptional, ParseLogLevel);
       logging.ReadString("file", site_.logging.file, Need::kOptional);
     }
+    ReadHealth(top);
+    ReadMessaging(top);
     if (top.Find("listeners") == nullptr && top.Find("drop_directory") == nullptr) {
       problems_.Add(top.mark(), "listeners",
                     "no sample source: give listeners, a drop_directory or both");
@@ -833,6 +853,155 @@ class SiteLoader {
       }
     }
     storage.ReadParsed("durability", config.durability, Need::kOptional, ParseDurability);
+  }
+
+  // A port key: 0 to 65535 (0 only when allow_zero). Returns true when stored.
+  bool ReadPort(MapReader& map, std::string_view key, std::uint16_t& out, Need need,
+                bool allow_zero) {
+    long long port = 0;
+    if (!map.ReadInteger(key, port, need)) return false;
+    if (port < (allow_zero ? 0 : 1) || port > 65535) {
+      map.Report(key, "port " + std::to_string(port) + " is out of range (" +
+                          (allow_zero ? "0" : "1") + " to 65535)");
+      return false;
+    }
+    out = static_cast<std::uint16_t>(port);
+    return true;
+  }
+
+  void ReadHealth(MapReader& top) {
+    const YAML::Node* node = top.Find("health");
+    if (node == nullptr) return;
+    MapReader health(problems_, *node, "health", kHealthKeys);
+    if (!health.is_map()) return;
+    HealthConfig& config = site_.health;
+    health.ReadBool("enabled", config.enabled, Need::kOptional);
+    if (health.ReadString("address", config.address, Need::kOptional) &&
+        !IsNumericAddress(config.address)) {
+      health.Report("address", "address " + QuoteValue(config.address) +
+                                   " is not a numeric IPv4 or IPv6 address");
+    }
+    ReadPort(health, "port", config.port, Need::kOptional, true);
+  }
+
+  void ReadMessaging(MapReader& top) {
+    const YAML::Node* node = top.Find("messaging");
+    if (node == nullptr) return;
+    MapReader messaging(problems_, *node, "messaging", kMessagingKeys);
+    if (!messaging.is_map()) return;
+    MessagingConfig config;
+    if (messaging.ReadString("host", config.host, Need::kRequired) && config.host.empty()) {
+      messaging.Report("host", "the broker's host name or address is empty");
+    }
+    ReadPort(messaging, "port", config.port, Need::kOptional, false);
+    // MQTT 3.1.1 allows 1 to 23 characters of [0-9a-zA-Z] at least; brokers accept more, so only
+    // the protocol's hard limit (a UTF-8 string of at most 65535 bytes) and emptiness are checked.
+    if (messaging.ReadString("client_id", config.client_id, Need::kOptional) &&
+        (config.client_id.empty() || config.client_id.size() > 65535)) {
+      messaging.Report("client_id", "must be 1 to 65535 characters, or left out");
+    }
+    messaging.ReadParsed("protocol", config.protocol, Need::kOptional, ParseMqttProtocol);
+    if (messaging.ReadString("topic_prefix", config.topic_prefix, Need::kOptional)) {
+      const std::string& prefix = config.topic_prefix;
+      if (prefix.empty() || prefix.front() == '/' || prefix.back() == '/' ||
+          prefix.find_first_of("+#") != std::string::npos ||
+          prefix.find('\0') != std::string::npos) {
+        messaging.Report("topic_prefix", "topic prefix " + QuoteValue(prefix) +
+                                             " must be non-empty, without '+', '#' or a leading "
+                                             "or trailing '/'");
+      }
+    }
+    long long keepalive = 0;
+    if (messaging.ReadInteger("keepalive_s", keepalive, Need::kOptional)) {
+      // MQTT keep alive is a 16-bit count of seconds; libmosquitto refuses below 5.
+      if (keepalive < 5 || keepalive > 65535) {
+        messaging.Report("keepalive_s",
+                         "must be 5 to 65535 seconds, got " + std::to_string(keepalive));
+      } else {
+        config.keepalive_s = static_cast<int>(keepalive);
+      }
+    }
+    messaging.ReadString("username", config.username, Need::kOptional);
+    messaging.ReadString("password_file", config.password_file, Need::kOptional);
+    if (messaging.Has("password_file") && config.username.empty()) {
+      messaging.Report("password_file", "a password file needs a username");
+    }
+    if (const YAML::Node* tls_node = messaging.Find("tls")) {
+      MapReader tls(problems_, *tls_node, "messaging.tls", kTlsKeys);
+      if (tls.is_map()) {
+        MqttTlsConfig files;
+        tls.ReadString("ca_file", files.ca_file, Need::kRequired);
+        tls.ReadString("cert_file", files.cert_file, Need::kOptional);
+        tls.ReadString("key_file", files.key_file, Need::kOptional);
+        if (files.cert_file.empty() != files.key_file.empty()) {
+          tls.Report(files.cert_file.empty() ? "cert_file" : "key_file",
+                     "cert_file and key_file go together (a client certificate and its key)");
+        }
+        config.tls = files;
+      }
+    }
+    bool backoff_ok = true;
+    for (auto [key, out] : {std::pair{"reconnect_min_s", &config.reconnect_min_s},
+                            std::pair{"reconnect_max_s", &config.reconnect_max_s}}) {
+      double seconds = 0.0;
+      if (!messaging.ReadNumber(key, seconds, Need::kOptional)) continue;
+      // libmosquitto counts reconnect delays in whole seconds.
+      if (seconds < 1.0 || seconds > 3600.0) {
+        messaging.Report(key, "must be 1 to 3600 seconds, got " + FormatNumber(seconds));
+        backoff_ok = false;
+      } else {
+        *out = seconds;
+      }
+    }
+    if (backoff_ok && config.reconnect_max_s < config.reconnect_min_s) {
+      messaging.Report("reconnect_max_s", "must be at least reconnect_min_s (" +
+                                              FormatNumber(config.reconnect_min_s) + "), got " +
+                                              FormatNumber(config.reconnect_max_s));
+    }
+    if (const YAML::Node* bands_node = messaging.Find("band_values")) {
+      MapReader bands(problems_, *bands_node, "messaging.band_values", kBandValueKeys);
+      if (bands.is_map()) {
+        BandPublishingConfig& out = config.band_values;
+        out.enabled = true;  // the section given means publishing, unless enabled says otherwise
+        bands.ReadBool("enabled", out.enabled, Need::kOptional);
+        long long every = 0;
+        if (bands.ReadInteger("every_intervals", every, Need::kOptional)) {
+          if (every < 1 || every > 1000000) {
+            bands.Report("every_intervals", "must be 1 to 1000000, got " + std::to_string(every));
+          } else {
+            out.every_intervals = static_cast<int>(every);
+          }
+        }
+        long long qos = 0;
+        if (bands.ReadInteger("qos", qos, Need::kOptional)) {
+          if (qos != 0 && qos != 1) {
+            bands.Report("qos", "must be 0 or 1, got " + std::to_string(qos));
+          } else {
+            out.qos = static_cast<int>(qos);
+          }
+        }
+      }
+    }
+    if (const YAML::Node* hook_node = messaging.Find("command_hook")) {
+      MapReader hook(problems_, *hook_node, "messaging.command_hook", kHookKeys);
+      if (hook.is_map()) {
+        CommandHookConfig out;
+        // Run without a shell: an absolute path, so no search path decides what runs.
+        if (hook.ReadString("program", out.program, Need::kRequired) &&
+            (out.program.empty() || out.program.front() != '/')) {
+          hook.Report("program", "program " + QuoteValue(out.program) +
+                                     " must be an absolute path (it is run without a shell)");
+        }
+        hook.ReadStringList("args", out.args, Need::kOptional);
+        if (hook.ReadNumber("timeout_s", out.timeout_s, Need::kOptional) &&
+            (out.timeout_s <= 0.0 || out.timeout_s > 3600.0)) {
+          hook.Report("timeout_s", "must be above 0 and at most 3600 seconds, got " +
+                                       FormatNumber(out.timeout_s));
+        }
+        config.command_hook = std::move(out);
+      }
+    }
+    site_.messaging = std::move(config);
   }
 
   void ReadListeners(MapReader& top) {

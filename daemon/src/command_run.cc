@@ -13,6 +13,7 @@
 #include "daemon_logging.h"
 #include "log_sink.h"
 #include "option_reader.h"
+#include "run_outlets.h"
 #include "service_notifier.h"
 #include "spinward/config/site_diff.h"
 #include "spinward/config/site_loader.h"
@@ -44,7 +45,8 @@ constexpr const char* kRunHelp =
 
 std::string LevelName(config::LogLevel level) { return std::string(config::ToString(level)); }
 
-void WriteReadyFile(const std::string& path, const MonitoringService& service) {
+void WriteReadyFile(const std::string& path, const MonitoringService& service,
+                    std::uint16_t health_port) {
   std::ofstream out(path + ".tmp");
   out << "{\"pid\":" << ::getpid() << ",\"listeners\":[";
   bool first = true;
@@ -53,7 +55,7 @@ void WriteReadyFile(const std::string& path, const MonitoringService& service) {
         << "\",\"port\":" << l.port << "}";
     first = false;
   }
-  out << "]}\n";
+  out << "],\"health_port\":" << health_port << "}\n";
   out.close();
   std::rename((path + ".tmp").c_str(), path.c_str());  // readers never see a half-written file
 }
@@ -125,6 +127,13 @@ int CommandRun(const Arguments& args) {
   }
   sinks->Add((*backend)->Sink());
   LogLine("info", "trends and alarms in " + (*backend)->path());
+  // Messaging and the health endpoint (docs/messaging.md, docs/health.md).
+  auto outlets = RunOutlets::Start(loaded.site, LogLine);
+  if (!outlets.ok()) {
+    LogLine("error", "cannot start: " + outlets.message());
+    return 1;
+  }
+  if (auto bands = (*outlets)->BandSink()) sinks->Add(bands);
 
   ServiceOptions service_options;
   service_options.worker_threads = static_cast<std::size_t>(*workers);
@@ -142,7 +151,9 @@ int CommandRun(const Arguments& args) {
   }
   LogLine("info", "spinward running for site '" + loaded.site.site.name + "' with " +
                       std::to_string(loaded.site.points.size()) + " points");
-  if (auto ready = options->Value("--ready-file")) WriteReadyFile(*ready, **service);
+  (*outlets)->StartHealth(**service, **backend);
+  if (auto ready = options->Value("--ready-file"))
+    WriteReadyFile(*ready, **service, (*outlets)->HealthPort());
   // systemd (Type=notify): ready once the listeners are bound; keep-alives from this loop.
   auto notifier = ServiceNotifier::FromEnvironment();
   notifier.Ready("monitoring " + std::to_string(loaded.site.points.size()) + " points");
@@ -172,8 +183,14 @@ int CommandRun(const Arguments& args) {
         LogLine("error", "reload refused: " + *config_path +
                              " is not valid; the running configuration stays");
       } else {
-        if (config::DiffSites((*service)->site(), next.site).storage_changed) {
+        const auto diff = config::DiffSites((*service)->site(), next.site);
+        if (diff.storage_changed) {
           LogLine("warn", "reload: storage settings changed; they take effect at the next start");
+        }
+        if (diff.outlets_changed) {
+          LogLine("warn",
+                  "reload: health or messaging settings changed; they take effect at the next "
+                  "start");
         }
         auto summary = (*service)->Reload(next.site);
         if (!summary.ok()) {
@@ -188,7 +205,9 @@ int CommandRun(const Arguments& args) {
                               std::to_string(summary->restarted.size()) + " restarted, " +
                               std::to_string(summary->added.size()) + " added, " +
                               std::to_string(summary->removed.size()) + " removed");
-          if (auto ready = options->Value("--ready-file")) WriteReadyFile(*ready, **service);
+          (*outlets)->SiteChanged(**service);
+          if (auto ready = options->Value("--ready-file"))
+            WriteReadyFile(*ready, **service, (*outlets)->HealthPort());
         }
       }
       notifier.Ready("monitoring " + std::to_string((*service)->site().points.size()) +
@@ -212,8 +231,10 @@ int CommandRun(const Arguments& args) {
                           ", sequence gaps " + std::to_string(points.sequence_gaps));
     }
   }
+  (*outlets)->StopHealth();
   (*service)->Stop();
   (*backend)->Stop();
+  (*outlets)->StopMessaging();
   const auto stored = (*backend)->Counters();
   LogLine("info", "storage: " + std::to_string(stored.committed_records) + " records committed, " +
                       std::to_string(stored.dropped_records) + " dropped");

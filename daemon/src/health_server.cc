@@ -37,7 +37,17 @@ std::string HealthJson(const HealthSnapshot& s) {
   out += s.storage_writable ? "true" : "false";
   out += ",\"backlog_items\":";
   AppendUint(out, s.storage_backlog_items);
-  out += "},\"listeners\":[";
+  out += "},\"broker\":";
+  if (!s.messaging_configured) {
+    out += "null";
+  } else {
+    out += "{\"connected\":";
+    out += s.broker_connected ? "true" : "false";
+    out += ",\"outbox_pending\":";
+    AppendUint(out, s.outbox_pending);
+    out += '}';
+  }
+  out += ",\"listeners\":[";
   for (std::size_t i = 0; i < s.listeners.size(); ++i) {
     if (i) out += ',';
     out += "{\"description\":";
@@ -161,7 +171,9 @@ class Session : public std::enable_shared_from_this<Session> {
 }  // namespace
 
 bool IsReady(const HealthSnapshot& snapshot) {
-  return !snapshot.listeners.empty() && snapshot.storage_writable;
+  const bool sources = !snapshot.listeners.empty() || snapshot.drop_directory_watched;
+  const bool broker = !snapshot.messaging_configured || snapshot.broker_connected;
+  return sources && snapshot.storage_writable && broker;
 }
 
 Status HealthServerOptions::Validate() const {

@@ -1,6 +1,7 @@
 #include "metrics_text.h"
 
 #include <cstdint>
+#include <map>
 #include <string_view>
 
 namespace spinward::daemon {
@@ -95,6 +96,28 @@ std::string RenderMetricsText(const HealthSnapshot& s) {
         s.router.queued_samples);
   Gauge(out, "spinward_storage_backlog_items",
         "Records accepted by the storage writer and not yet written.", s.storage_backlog_items);
+  Gauge(out, "spinward_storage_writable",
+        "1 while the storage writer commits; 0 while a failed commit waits for its retry.",
+        s.storage_writable ? 1 : 0);
+
+  constexpr std::string_view kByState = "spinward_points_by_state";
+  Family(out, kByState, "gauge", "Points by their worst alarm state (unknown: none stored yet).");
+  std::map<std::string, std::uint64_t> by_state;
+  for (const auto& point : s.points) ++by_state[point.state.empty() ? "unknown" : point.state];
+  for (const auto& [state, count] : by_state) Sample(out, kByState, count, "state", state);
+
+  if (s.messaging_configured) {
+    Gauge(out, "spinward_broker_connected", "1 while an MQTT session with the broker is open.",
+          s.broker_connected ? 1 : 0);
+    Counter(out, "spinward_alarms_published_total",
+            "Alarm transitions acknowledged by the broker (PUBACK).", s.alarms_published);
+    Gauge(out, "spinward_outbox_pending", "Alarm transitions stored and not yet acknowledged.",
+          s.outbox_pending);
+    Counter(out, "spinward_band_messages_published_total", "Band-value messages published.",
+            s.band_messages_published);
+    Counter(out, "spinward_band_messages_skipped_total",
+            "Band-value messages due while the broker was not connected.", s.band_messages_skipped);
+  }
   return out;
 }
 

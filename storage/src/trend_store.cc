@@ -816,4 +816,45 @@ Result<std::vector<std::pair<std::string, std::string>>> TrendStore::PendingOutb
   return pending;
 }
 
+Result<std::vector<OutboxEntry>> TrendStore::OutboxAfter(std::int64_t after_seq, bool pending_only,
+                                                         int limit) {
+  Impl& s = *impl_;
+  auto stmt = s.db.Prepare(
+      std::string("SELECT o.outbox_pk, o.event_id, p.point_id, o.payload, o.sent_ns "
+                  "FROM outbox o JOIN alarm_events e ON e.event_id = o.event_id "
+                  "JOIN points p ON p.point_pk = e.point_pk WHERE o.outbox_pk > ?1") +
+      (pending_only ? " AND o.sent_ns IS NULL" : "") + " ORDER BY o.outbox_pk LIMIT ?2");
+  if (!stmt) return stmt.status();
+  stmt->Bind(1, after_seq);
+  stmt->Bind(2, static_cast<std::int64_t>(limit));
+  std::vector<OutboxEntry> entries;
+  int rc = 0;
+  while ((rc = stmt->Step()) == SQLITE_ROW) {
+    entries.push_back(
+        {stmt->Int(0), stmt->Text(1), stmt->Text(2), stmt->Text(3), !stmt->IsNull(4)});
+  }
+  if (rc != SQLITE_DONE) return Error{"outbox query on '" + s.path + "': " + s.db.ErrorMessage()};
+  return entries;
+}
+
+Result<std::int64_t> TrendStore::LastOutboxSeq() {
+  return impl_->db.QueryInt("SELECT COALESCE(MAX(outbox_pk), 0) FROM outbox");
+}
+
+Status TrendStore::MarkOutboxSent(const std::string& event_id, std::int64_t sent_ns) {
+  Impl& s = *impl_;
+  auto stmt = s.db.Prepare("UPDATE outbox SET sent_ns = COALESCE(sent_ns, ?2) WHERE event_id = ?1");
+  if (!stmt) return stmt.status();
+  stmt->Bind(1, std::string_view(event_id));
+  stmt->Bind(2, sent_ns);
+  if (stmt->Step() != SQLITE_DONE) {
+    return Status::Fail("marking outbox event '" + event_id + "' sent in '" + s.path +
+                        "': " + s.db.ErrorMessage());
+  }
+  if (s.db.Changes() == 0) {
+    return Status::Fail("event '" + event_id + "' is not in the outbox of '" + s.path + "'");
+  }
+  return Status::Ok();
+}
+
 }  // namespace spinward::storage

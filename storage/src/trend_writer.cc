@@ -196,6 +196,7 @@ void TrendWriter::Shared::Run() {
         counters.committed_records += merged.records.size();
         counters.committed_intervals += outcome.intervals_written;
         counters.committed_events += outcome.events_written;
+        counters.failing = false;
         resolved_seq = std::max(resolved_seq, taken.back().seq);
         if (backoff.count() > 0) {
           messages.push_back("trend writer: writing again after a failure; backlog now " +
@@ -205,6 +206,7 @@ void TrendWriter::Shared::Run() {
         retry_at = Clock::time_point{};
       } else if (outcome.retryable && !stopping) {
         counters.failed_attempts += 1;
+        counters.failing = true;
         for (auto it = taken.rbegin(); it != taken.rend(); ++it) {
           queued_weight += it->Weight();
           queue.push_front(std::move(*it));

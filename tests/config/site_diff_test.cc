@@ -126,6 +126,18 @@ TEST(SiteDiff, AlarmSensorCheckAndStorageChanges) {
       Load(Site("", "1480", with_band + "}\n" + kOther) + "storage: {durability: normal}\n");
   EXPECT_TRUE(DiffSites(before, durable).storage_changed);
   EXPECT_FALSE(DiffSites(durable, durable).storage_changed);
+
+  // Health and messaging: noticed (they take effect at the next start), points untouched.
+  const std::string base = Site("", "1480", with_band + "}\n" + kOther);
+  SiteConfig brokered = Load(base + "messaging: {host: 127.0.0.1}\n");
+  SiteDiff outlets = DiffSites(before, brokered);
+  EXPECT_TRUE(outlets.outlets_changed);
+  EXPECT_TRUE(outlets.changed.empty());
+  EXPECT_TRUE(
+      DiffSites(brokered, Load(base + "messaging: {host: 127.0.0.1, topic_prefix: water}\n"))
+          .outlets_changed);
+  EXPECT_TRUE(DiffSites(before, Load(base + "health: {port: 7481}\n")).outlets_changed);
+  EXPECT_FALSE(DiffSites(brokered, brokered).outlets_changed);
 }
 
 }  // namespace

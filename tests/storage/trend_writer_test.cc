@@ -152,6 +152,7 @@ TEST(TrendWriter, DiskFullKeepsBacklogAndWritesItOnceSpaceReturns) {
   EXPECT_EQ(during.backlog_items, 40u);
   EXPECT_EQ(during.dropped_records, 0u);
   EXPECT_TRUE(log.Contains("full")) << "no log line about the full database";
+  EXPECT_TRUE(during.failing);  // health readiness: storage not writable
 
   (*writer)->Post([](TrendStore& s) { ASSERT_TRUE(s.SetMaxPageCount(1 << 30).ok()); });
   ASSERT_TRUE((*writer)->Flush(60s));
@@ -160,6 +161,7 @@ TEST(TrendWriter, DiskFullKeepsBacklogAndWritesItOnceSpaceReturns) {
   EXPECT_EQ(after.backlog_items, 0u);
   EXPECT_EQ(after.dropped_records, 0u);
   EXPECT_TRUE(log.Contains("writing again"));
+  EXPECT_FALSE(after.failing);
   RawConnection raw(path);
   EXPECT_EQ(raw.Int("SELECT count(*) FROM trend_values"), 40);
   EXPECT_EQ(raw.Text("PRAGMA quick_check"), "ok");

@@ -211,6 +211,61 @@ struct LoggingConfig {
   std::string file;  // empty: standard error
 };
 
+// The HTTP health endpoint (docs/health.md): loopback by default, since it carries no
+// authentication.
+struct HealthConfig {
+  bool enabled = true;
+  std::string address = "127.0.0.1";  // numeric IPv4 or IPv6
+  std::uint16_t port = 7480;          // 0: any free port
+};
+
+enum class MqttProtocol { kV311, kV5 };
+// "3.1.1" or "5".
+Result<MqttProtocol> ParseMqttProtocol(std::string_view text);
+std::string_view ToString(MqttProtocol value);
+
+// TLS towards the broker: all files PEM. ca_file alone verifies the broker; cert_file and key_file
+// (always together) add a client certificate.
+struct MqttTlsConfig {
+  std::string ca_file;  // required when tls is given
+  std::string cert_file;
+  std::string key_file;
+};
+
+// Band values published per averaging interval (docs/messaging.md): not stored for later, so a
+// message missed while the broker is away is gone (the trend database keeps every value).
+struct BandPublishingConfig {
+  bool enabled = false;
+  int every_intervals = 1;  // publish every Nth interval of each point
+  int qos = 0;              // 0 or 1
+};
+
+// A program run for every alarm transition with the alarm JSON on standard input, never through a
+// shell (an SMS or e-mail gateway).
+struct CommandHookConfig {
+  std::string program;  // absolute path; required
+  std::vector<std::string> args;
+  double timeout_s = 10.0;  // killed after this
+};
+
+// Publishing to an MQTT broker (docs/messaging.md). The password is read from a file, never from
+// the site file.
+struct MessagingConfig {
+  std::string host;  // required
+  std::uint16_t port = 1883;
+  std::string client_id;  // empty: "spinward-<site name>" made safe
+  MqttProtocol protocol = MqttProtocol::kV311;
+  std::string topic_prefix = "spinward";
+  int keepalive_s = 30;
+  std::string username;
+  std::string password_file;  // only with username
+  std::optional<MqttTlsConfig> tls;
+  double reconnect_min_s = 1.0;
+  double reconnect_max_s = 60.0;
+  BandPublishingConfig band_values;
+  std::optional<CommandHookConfig> command_hook;
+};
+
 struct SiteConfig {
   SiteInfo site;
   std::vector<MachineConfig> machines;
@@ -220,6 +275,8 @@ struct SiteConfig {
   std::optional<DropDirectoryConfig> drop_directory;
   StorageConfig storage;
   LoggingConfig logging;
+  HealthConfig health;
+  std::optional<MessagingConfig> messaging;  // absent: no broker
 
   // Null when no entry has that id.
   const MachineConfig* FindMachine(std::string_view id) const;

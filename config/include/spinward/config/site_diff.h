@@ -24,10 +24,12 @@ struct SiteDiff {
   bool drop_directory_changed = false;
   bool storage_changed = false;
   bool logging_changed = false;
+  bool outlets_changed = false;  // health or messaging: taken at the next start
 
   bool empty() const {
     return changed.empty() && added.empty() && removed.empty() && !site_changed &&
-           !listeners_changed && !drop_directory_changed && !storage_changed && !logging_changed;
+           !listeners_changed && !drop_directory_changed && !storage_changed && !logging_changed &&
+           !outlets_changed;
   }
 };
 

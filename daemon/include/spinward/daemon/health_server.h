@@ -32,6 +32,14 @@ struct HealthSnapshot {
   bool storage_writable = false;
   std::uint64_t storage_backlog_items = 0;  // records accepted but not yet written
   std::vector<BoundListener> listeners;
+  bool drop_directory_watched = false;  // a source besides the listeners
+  // Messaging (docs/messaging.md): readiness needs the broker only when one is configured.
+  bool messaging_configured = false;
+  bool broker_connected = false;
+  std::uint64_t alarms_published = 0;
+  std::uint64_t outbox_pending = 0;
+  std::uint64_t band_messages_published = 0;
+  std::uint64_t band_messages_skipped = 0;
 };
 
 class HealthSource {
@@ -40,8 +48,9 @@ class HealthSource {
   virtual HealthSnapshot Snapshot() const = 0;
 };
 
-// Ready means the daemon can take data in and keep it: at least one listener up and storage
-// writable.
+// Ready means the daemon can take data in, keep it and pass alarms on: a source up (a listener
+// or the drop directory), storage writable, and the broker connected when messaging is
+// configured.
 bool IsReady(const HealthSnapshot& snapshot);
 
 struct HealthServerOptions {

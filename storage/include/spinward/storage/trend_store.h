@@ -107,6 +107,15 @@ struct StoredSpectrum {
   SpectrumSnapshot snapshot;
 };
 
+// One alarm event waiting in (or sent from) the outbox. `seq` increases in commit order.
+struct OutboxEntry {
+  std::int64_t seq = 0;
+  std::string event_id;
+  std::string point_id;
+  std::string payload;
+  bool sent = false;
+};
+
 struct PruneReport {
   std::int64_t raw_rows = 0;
   std::int64_t hourly_rows = 0;
@@ -161,6 +170,14 @@ class TrendStore {
   Result<std::vector<AcknowledgementRecord>> AcknowledgementsAfter(std::int64_t after_id);
   // The outbox's pending payloads (oldest first), for the messaging component.
   Result<std::vector<std::pair<std::string, std::string>>> PendingOutbox(int limit);
+  // Outbox entries with seq > after_seq, oldest first; pending_only: those not yet marked sent.
+  Result<std::vector<OutboxEntry>> OutboxAfter(std::int64_t after_seq, bool pending_only,
+                                               int limit);
+  // The highest seq in the outbox (0 when empty).
+  Result<std::int64_t> LastOutboxSeq();
+  // Marks an event delivered (the broker acknowledged it). Fails when the event is not in the
+  // outbox; marking it again keeps the first time.
+  Status MarkOutboxSent(const std::string& event_id, std::int64_t sent_ns);
   // EXPLAIN QUERY PLAN of the statement Trend() runs for `level`, one detail line per row.
   Result<std::vector<std::string>> ExplainTrendQuery(TrendLevel level);
 

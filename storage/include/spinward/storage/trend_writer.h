@@ -55,6 +55,9 @@ struct WriterCounters {
   std::uint64_t dropped_states = 0;
   std::uint64_t pruned_rows = 0;
   std::size_t backlog_items = 0;  // waiting, including a batch in flight
+  // The last commit attempt failed and is waiting for its retry (disk full, I/O error, locked);
+  // false again after the next commit that succeeds. Health readiness reads it.
+  bool failing = false;
 };
 
 class TrendWriter {
