@@ -38,4 +38,24 @@ bool IsMachineState(AlarmState state) {
          state == AlarmState::kDanger;
 }
 
+int AlarmStateSeverity(std::string_view state_text) {
+  auto state = ParseAlarmState(state_text);
+  if (!state.ok()) return 0;
+  switch (*state) {
+    case AlarmState::kDanger:
+      return 6;
+    case AlarmState::kAlert:
+      return 5;
+    case AlarmState::kSensorFault:
+      return 4;
+    case AlarmState::kStale:
+      return 3;
+    case AlarmState::kLearning:
+      return 2;
+    case AlarmState::kNormal:
+      return 1;
+  }
+  return 0;
+}
+
 }  // namespace spinward::daemon

@@ -7,6 +7,7 @@
 #include <optional>
 #include <thread>
 
+#include "spinward/daemon/alarm_state.h"
 #include "spinward/daemon/command_hook.h"
 #include "spinward/daemon/json_lines_sink.h"
 #include "spinward/storage/time_text.h"
@@ -33,21 +34,12 @@ std::string Number(double value) {
 
 }  // namespace
 
-int StateSeverity(const std::string& state) {
-  static const char* const kOrder[] = {"danger", "alert",    "sensor_fault",
-                                       "stale",  "learning", "normal"};
-  for (int i = 0; i < 6; ++i) {
-    if (state == kOrder[i]) return 6 - i;
-  }
-  return 0;
-}
-
 std::map<std::string, std::string> WorstStates(const std::vector<storage::MeasureStatus>& status) {
   std::map<std::string, std::string> worst;
   for (const auto& m : status) {
     if (!m.alarm) continue;
     auto& w = worst[m.point_id];
-    if (StateSeverity(m.alarm->state) > StateSeverity(w)) w = m.alarm->state;
+    if (AlarmStateSeverity(m.alarm->state) > AlarmStateSeverity(w)) w = m.alarm->state;
   }
   return worst;
 }
@@ -198,7 +190,7 @@ struct MqttPublisher::Impl {
       if (!m.alarm) continue;
       auto& view = views[m.point_id];
       const auto& a = *m.alarm;
-      if (StateSeverity(a.state) > StateSeverity(view.worst)) view.worst = a.state;
+      if (AlarmStateSeverity(a.state) > AlarmStateSeverity(view.worst)) view.worst = a.state;
       view.key += m.measure + "=" + a.state + "@" + std::to_string(a.since_ns) +
                   (a.latched ? "L" : "") + (a.ack_by.empty() ? "" : "A") + ";";
       if (!view.measures.empty()) view.measures += ',';

@@ -11,6 +11,7 @@
 #include <limits>
 #include <set>
 
+#include "spinward/daemon/alarm_state.h"
 #include "spinward/estimators/trend_forecast.h"
 
 namespace spinward::daemon {
@@ -182,14 +183,6 @@ Status ReportOptions::Validate() const {
   return Status::Ok();
 }
 
-int StateSeverity(const std::string& state) {
-  if (state == "danger") return 4;
-  if (state == "alert") return 3;
-  if (state == "normal") return 0;
-  if (state == "learning") return 1;
-  return 2;  // sensor_fault, stale, anything newer
-}
-
 std::optional<double> PointReview::Completeness() const {
   if (expected <= 0) return std::nullopt;
   return static_cast<double>(received) / static_cast<double>(expected);
@@ -324,7 +317,7 @@ Result<ReportModel> BuildReport(storage::ReportReader& reader, BaselineProvider&
       point.fault_intervals = faults;
       point.expected = std::max<std::int64_t>(0, (last_whole - start) / kReportHourNs) * usual;
     }
-    if (StateSeverity(m.state) > StateSeverity(point.state)) point.state = m.state;
+    if (AlarmStateSeverity(m.state) > AlarmStateSeverity(point.state)) point.state = m.state;
     if (measure.kind == "band") {
       const double move =
           std::max(std::abs(m.vs_baseline_db.value_or(0.0)), std::abs(m.vs_week_db.value_or(0.0)));
@@ -362,7 +355,7 @@ Result<ReportModel> BuildReport(storage::ReportReader& reader, BaselineProvider&
   for (auto& point : model.points) {
     if (asked.count(point.point_id)) {
       point.why_detailed = "asked for";
-    } else if (StateSeverity(point.state) >= 2) {
+    } else if (AlarmStateSeverity(point.state) >= kSeverityNeedsAttention) {
       point.why_detailed = "in " + point.state;
     } else if (!point.events.empty()) {
       point.why_detailed = "alarm events in the period";

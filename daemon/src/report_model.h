@@ -120,9 +120,6 @@ struct ReportModel {
   std::int64_t received = 0, expected = 0;
 };
 
-// Severity rank of a state for "worst of" (danger highest; unknown states rank with faults).
-int StateSeverity(const std::string& state);
-
 Result<ReportModel> BuildReport(storage::ReportReader& reader, BaselineProvider& baseline,
                                 const SiteFacts& site, const ReportOptions& options);
 

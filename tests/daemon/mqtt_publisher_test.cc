@@ -54,8 +54,12 @@ class FakeTransport final : public MqttTransport {
 config::SiteConfig Site(const std::filesystem::path& db) {
   config::SiteConfig site;
   site.site.name = "Larkfield booster pump station";
-  site.machines.push_back({"P-101", "Booster pump 1", config::MachineKind::kPump, 1480.0, 2,
-                           config::MachineSupport::kRigid});
+  config::MachineConfig machine;
+  machine.id = "P-101";
+  machine.name = "Booster pump 1";
+  machine.kind = config::MachineKind::kPump;
+  machine.speed_rpm = 1480.0;
+  site.machines.push_back(machine);
   config::PointConfig point;
   point.id = "P101-DE-H";
   point.machine = "P-101";

@@ -30,4 +30,10 @@ Result<AlarmState> ParseAlarmState(std::string_view text);
 // True for normal, alert and danger: states that say something about the machine.
 bool IsMachineState(AlarmState state);
 
+// How much a state asks for attention, for summaries that show a point's worst state (report,
+// retained point states): danger 6, alert 5, sensor_fault 4, stale 3, learning 2, normal 1, and 0
+// for any other text (e.g. "" for no state).
+inline constexpr int kSeverityNeedsAttention = 3;  // stale, a faulty sensor, alert or danger
+int AlarmStateSeverity(std::string_view state_text);
+
 }  // namespace spinward::daemon

@@ -50,9 +50,6 @@ struct PublisherOptions {
   std::function<std::int64_t()> now_ns;
 };
 
-// Alarm states ranked for a point's summary: danger, alert, sensor_fault, stale, learning,
-// normal (higher is worse; 0 for anything else, e.g. "").
-int StateSeverity(const std::string& state);
 // The worst stored alarm state of each point that has one.
 std::map<std::string, std::string> WorstStates(const std::vector<storage::MeasureStatus>& status);
 
