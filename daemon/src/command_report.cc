@@ -12,6 +12,7 @@
 #include "option_reader.h"
 #include "report_baseline.h"
 #include "report_html.h"
+#include "report_learned_baseline.h"
 #include "report_model.h"
 #include "report_text.h"
 #include "site_judgement.h"
@@ -75,12 +76,18 @@ Result<SiteFacts> FactsFromSite(const std::string& path) {
                       : "")};
   }
   SiteFacts facts;
-  std::map<std::string, double> speed_of_machine;
-  for (const auto& m : loaded.site.machines) speed_of_machine[m.id] = m.speed_rpm;
   for (const auto& p : loaded.site.points) {
     facts.machine_of_point[p.id] = p.machine;
-    if (auto s = speed_of_machine.find(p.machine); s != speed_of_machine.end() && s->second > 0) {
-      facts.speed_rpm_of_point[p.id] = s->second;
+    const config::MachineConfig* machine = loaded.site.FindMachine(p.machine);
+    if (machine == nullptr || machine->speed_rpm <= 0) continue;
+    facts.speed_rpm_of_point[p.id] = machine->speed_rpm;
+    // Defect frequencies at the nominal speed: where to look in the spectrum, not a measurement.
+    if (const auto& bearing = machine->diagnostics.bearing) {
+      const double shaft_hz = machine->speed_rpm / 60.0;
+      facts.defect_lines_of_point[p.id] = {{"FTF", bearing->ftf * shaft_hz},
+                                           {"BPFO", bearing->bpfo * shaft_hz},
+                                           {"BPFI", bearing->bpfi * shaft_hz},
+                                           {"BSF", bearing->bsf * shaft_hz}};
     }
   }
   auto judgements = JudgementsFromSite(loaded.site);
@@ -185,7 +192,11 @@ int CommandReport(const Arguments& args) {
 
   auto reader = storage::ReportReader::Open(*db);
   if (!reader) return Fail(reader.message(), 1);
-  CommissioningBaseline baseline;
+  // Learned baselines (`spinward baseline`) where there are any, the first day of data elsewhere.
+  auto learned = reader->LearnedBaselines();
+  if (!learned) return Fail(learned.message(), 1);
+  CommissioningBaseline commissioning;
+  LearnedBaselineProvider baseline(*learned, commissioning);
   auto model = BuildReport(*reader, baseline, facts, options);
   if (!model) return Fail(model.message(), 1);
 

@@ -58,8 +58,14 @@ constexpr NamedSql kFirstSpectrum{
     "SELECT s.start_ns, s.end_ns, s.data FROM spectra s WHERE s.point_pk = (SELECT point_pk FROM "
     "points WHERE point_id = ?1) ORDER BY s.start_ns LIMIT 1"};
 
-constexpr NamedSql kAll[] = {kMeasures, kHourly, kHourCentre,     kFirstHour,    kEvents,
-                             kAcks,     kStates, kSpectrumBefore, kFirstSpectrum};
+constexpr NamedSql kLearnedBaselines{
+    "learned_baselines",
+    "SELECT point, measure, median, mad, count, start_ns, end_ns, learned_ns, alert, danger FROM "
+    "baselines WHERE learned_ns IS NOT NULL AND median IS NOT NULL ORDER BY point, measure"};
+
+constexpr NamedSql kAll[] = {
+    kMeasures, kHourly, kHourCentre,     kFirstHour,     kEvents,
+    kAcks,     kStates, kSpectrumBefore, kFirstSpectrum, kLearnedBaselines};
 
 }  // namespace
 
@@ -248,6 +254,29 @@ Result<std::optional<StoredSpectrum>> ReportReader::SpectrumBefore(const std::st
 
 Result<std::optional<StoredSpectrum>> ReportReader::FirstSpectrum(const std::string& point_id) {
   return impl_->Spectrum(kFirstSpectrum, point_id, std::nullopt);
+}
+
+Result<std::vector<BaselineRow>> ReportReader::LearnedBaselines() {
+  auto stmt = impl_->Prepare(kLearnedBaselines);
+  if (!stmt) return stmt.status();
+  std::vector<BaselineRow> rows;
+  int rc = 0;
+  while ((rc = stmt->Step()) == SQLITE_ROW) {
+    BaselineRow b;
+    b.point = stmt->Text(0);
+    b.measure = stmt->Text(1);
+    b.median = stmt->Real(2);
+    if (!stmt->IsNull(3)) b.mad = stmt->Real(3);
+    b.count = stmt->Int(4);
+    b.start_ns = stmt->Int(5);
+    b.end_ns = stmt->Int(6);
+    b.learned_ns = stmt->Int(7);
+    if (!stmt->IsNull(8)) b.alert = stmt->Real(8);
+    if (!stmt->IsNull(9)) b.danger = stmt->Real(9);
+    rows.push_back(std::move(b));
+  }
+  if (rc != SQLITE_DONE) return impl_->Failed(kLearnedBaselines);
+  return rows;
 }
 
 Result<std::vector<std::string>> ReportReader::ExplainAll() {

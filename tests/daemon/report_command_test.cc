@@ -374,6 +374,46 @@ TEST_F(ReportOnDemo, ChromiumShowsEverySectionAndFetchesNothing) {
   EXPECT_EQ(from_page, 0) << "requests other than the browser's own:\n" << seen;
 }
 
+TEST_F(ReportOnDemo, SpectrumMarksBearingDefectFrequenciesOfAConfiguredBearing) {
+  // The demo's site with a bearing on P-101 given by its four multiples: those of the deep-groove
+  // 6205 in the Case Western Reserve University bearing data set (BPFI 5.4152, BPFO 3.5848, FTF
+  // 0.39828, element spin 2.357 = half its published 2 x BSF 4.7135).
+  std::ifstream in(Site());
+  std::stringstream text;
+  text << in.rdbuf();
+  std::string site = text.str();
+  const std::string p101 = "{id: P-101, name: Booster pump 1, kind: pump, speed_rpm: 1480";
+  const auto at = site.find(p101);
+  ASSERT_NE(at, std::string::npos) << site;
+  site.insert(at + p101.size(),
+              ", bearing: {ftf: 0.39828, bpfo: 3.5848, bpfi: 5.4152, bsf: 2.35675}");
+  const fs::path with_bearing = *dir_ / "site-with-bearing.yaml";
+  std::ofstream(with_bearing) << site;
+
+  const fs::path out = *dir_ / "bearing.html";
+  const CommandResult r =
+      RunCommand(SpinwardBinary().string() + " report --db " + Db().string() + " --config " +
+                 with_bearing.string() + " " + Day() + " --out " + out.string());
+  ASSERT_EQ(r.exit_code, 0) << r.error_output << r.output;
+  std::ifstream html_in(out);
+  std::stringstream html;
+  html << html_in.rdbuf();
+  const std::string page = html.str();
+  // BPFO at 1480 rpm: 3.5848 x 1480 / 60 = 88.43 Hz (by hand). Markers carry the line's name.
+  // The spectrum view spans at least 5.5 x the highest line, so all four are drawn.
+  for (const char* name : {"BPFO", "BPFI", "FTF", "BSF"}) {
+    EXPECT_NE(page.find("<g class=\"mark defect\"><title>" + std::string(name) + "</title>"),
+              std::string::npos)
+        << name;
+  }
+  // Only P-101 has a bearing: a P-102 spectrum, if shown in detail, carries no defect mark.
+  const auto p102 = page.find("data-point=\"P102");
+  if (p102 != std::string::npos) {
+    const auto end = page.find("</svg>", p102);
+    EXPECT_EQ(page.substr(p102, end - p102).find("mark defect"), std::string::npos);
+  }
+}
+
 TEST(Report, BadOptionsAreOneLine) {
   const CommandResult none = RunCommand(SpinwardBinary().string() + " report");
   EXPECT_EQ(none.exit_code, 2);

@@ -120,7 +120,7 @@ TEST_F(ReportReaderTest, ReadsHourlyMeansEventsAndAcks) {
 TEST_F(ReportReaderTest, EveryStatementUsesAnIndexAndNeverScansALargeTable) {
   // EXPLAIN QUERY PLAN prints "SEARCH <table> USING INDEX <name>" when an index narrows the rows
   // and "SCAN <table>" for a full scan (sqlite.org/eqp.html). The small tables (points, measures,
-  // alarm_state, acknowledgements) may be scanned; the large ones (trend_values, rollup_hourly,
+  // alarm_state, acknowledgements, baselines: one row per point and measure) may be scanned; the large ones (trend_values, rollup_hourly,
   // alarm_events, spectra) never. Raw trend_values are read by one statement only, one hour of
   // one measure through its (measure_pk, start_ns) index.
   auto reader = ReportReader::Open(path_);

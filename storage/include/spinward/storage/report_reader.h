@@ -16,6 +16,7 @@
 
 #include "spinward/estimators/result.h"
 #include "spinward/storage/alarm_records.h"
+#include "spinward/storage/baseline_store.h"
 #include "spinward/storage/trend_store.h"
 
 namespace spinward::storage {
@@ -63,6 +64,10 @@ class ReportReader {
   Result<std::optional<StoredSpectrum>> SpectrumBefore(const std::string& point_id,
                                                        std::int64_t before_ns);
   Result<std::optional<StoredSpectrum>> FirstSpectrum(const std::string& point_id);
+
+  // Every learned baseline (`spinward baseline`), by point and measure; those still learning are
+  // left out. A small table, read whole.
+  Result<std::vector<BaselineRow>> LearnedBaselines();
 
   // EXPLAIN QUERY PLAN of every statement above, as "name: detail" lines (for the index test).
   Result<std::vector<std::string>> ExplainAll();
