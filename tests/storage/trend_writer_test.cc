@@ -128,6 +128,43 @@ TEST(TrendWriter, EventsAndRecordsOfOneSubmitAreCommittedTogether) {
   EXPECT_EQ(raw.Int("SELECT count(*) FROM trend_values"), 1);
 }
 
+TEST(TrendWriter, AlarmEventsAreCommittedWithoutWaitingForTheBatchDelay) {
+  // Records wait up to max_batch_delay to share a commit; an alarm event (and its outbox row) must
+  // not, or every alarm reaches the plant's messaging that much later. With a one-hour delay, a
+  // batch of records alone is still queued when one with an event has been committed.
+  auto path = NewDb("writer-urgent");
+  auto store = TrendStore::Open(path.string());
+  ASSERT_TRUE(store.ok());
+  WriterOptions options = FastRetry();
+  options.max_batch_delay = std::chrono::hours(1);
+  options.max_batch_items = 100000;
+  auto writer = TrendWriter::Start(std::move(*store), options);
+  ASSERT_TRUE(writer.ok());
+  ASSERT_TRUE((*writer)->Submit(WriteBatch{{VelocityRecord(kBaseNs, 2.0)}, {}, {}}));
+  std::this_thread::sleep_for(200ms);
+  EXPECT_EQ((*writer)->counters().committed_records, 0u);  // waiting for company, as designed
+
+  WriteBatch batch{{VelocityRecord(kBaseNs + kTenMinNs, 2.9)}, {}, {}};
+  AlarmEventRecord event;
+  event.event_id = "lf-8";
+  event.time_ns = kBaseNs + kTenMinNs;
+  event.point_id = "P-101";
+  event.measure = "velocity_rms_10_1000";
+  event.from_state = "normal";
+  event.to_state = "alert";
+  event.value = 2.9;
+  batch.events.push_back(event);
+  ASSERT_TRUE((*writer)->Submit(batch));
+  // Generous for a loaded machine, and far below the hour the batch delay would take.
+  const auto deadline = std::chrono::steady_clock::now() + 60s;
+  while ((*writer)->counters().committed_events < 1 && std::chrono::steady_clock::now() < deadline)
+    std::this_thread::sleep_for(10ms);
+  EXPECT_EQ((*writer)->counters().committed_events, 1u);
+  EXPECT_EQ((*writer)->counters().committed_records, 2u);  // the waiting record went along
+  RawConnection raw(path);
+  EXPECT_EQ(raw.Int("SELECT count(*) FROM outbox WHERE event_id = 'lf-8'"), 1);
+}
+
 TEST(TrendWriter, DiskFullKeepsBacklogAndWritesItOnceSpaceReturns) {
   auto path = NewDb("writer-full");
   auto store = TrendStore::Open(path.string());

@@ -34,7 +34,7 @@ using CommitCallback = std::function<void(const std::vector<CommittedInterval>&)
 struct WriterOptions {
   // An item is one record, one alarm event or one alarm state.
   std::size_t max_batch_items = 500;
-  std::chrono::milliseconds max_batch_delay{1000};
+  std::chrono::milliseconds max_batch_delay{1000};  // a batch with alarm events is due at once
   std::size_t max_backlog_items = 200000;  // queued + in flight; beyond it the oldest are dropped
   std::chrono::milliseconds retry_initial{200};
   std::chrono::milliseconds retry_max{30000};
