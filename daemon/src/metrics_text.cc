@@ -1,5 +1,6 @@
 #include "metrics_text.h"
 
+#include <charconv>
 #include <cstdint>
 #include <map>
 #include <string_view>
@@ -54,6 +55,17 @@ void Sample(std::string& out, std::string_view name, std::uint64_t value,
   out += '\n';
 }
 
+// Seconds and other fractional values: shortest round-trip text (std::to_chars), which the text
+// format's Go-style float syntax accepts.
+void Sample(std::string& out, std::string_view name, double value) {
+  char buf[32];
+  auto end = std::to_chars(buf, buf + sizeof buf, value).ptr;
+  out += name;
+  out += ' ';
+  out.append(buf, end);
+  out += '\n';
+}
+
 void Counter(std::string& out, std::string_view name, std::string_view help, std::uint64_t value) {
   Family(out, name, "counter", help);
   Sample(out, name, value);
@@ -94,6 +106,14 @@ std::string RenderMetricsText(const HealthSnapshot& s) {
           s.router.records);
   Gauge(out, "spinward_queue_depth_samples", "Samples queued for the point pipelines now.",
         s.router.queued_samples);
+  Family(out, "spinward_processing_lag_seconds", "gauge",
+         "Signal waiting for its pipeline at the point furthest behind, in seconds.");
+  Sample(out, "spinward_processing_lag_seconds", s.router.max_queued_seconds);
+  // A summary without quantiles: rate(_sum) / rate(_count) is the mean commit time.
+  Family(out, "spinward_storage_commit_seconds", "summary",
+         "Time the storage writer spent committing transactions (database write latency).");
+  Sample(out, "spinward_storage_commit_seconds_count", s.storage_commits);
+  Sample(out, "spinward_storage_commit_seconds_sum", s.storage_commit_seconds);
   Gauge(out, "spinward_storage_backlog_items",
         "Records accepted by the storage writer and not yet written.", s.storage_backlog_items);
   Gauge(out, "spinward_storage_writable",

@@ -1,5 +1,6 @@
 #include "spinward/daemon/point_router.h"
 
+#include <algorithm>
 #include <atomic>
 #include <boost/asio/post.hpp>
 #include <boost/asio/strand.hpp>
@@ -218,7 +219,13 @@ RouterTotals PointRouter::Totals() const {
   RouterTotals totals = impl_->retired_totals;
   for (const auto& [sensor, worker] : impl_->by_sensor) {
     Impl::AddCounters(totals, worker->pipeline->counters());
-    totals.queued_samples += worker->queued_samples.load();
+    const std::size_t queued = worker->queued_samples.load();
+    totals.queued_samples += queued;
+    const double rate = worker->pipeline->settings().sample_rate_hz;  // fixed for its lifetime
+    if (rate > 0) {
+      totals.max_queued_seconds =
+          std::max(totals.max_queued_seconds, static_cast<double>(queued) / rate);
+    }
   }
   totals.unknown_sensor = impl_->unknown_sensor.load();
   totals.refused_full = impl_->refused_full.load();

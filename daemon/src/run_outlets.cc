@@ -34,6 +34,8 @@ class ServiceHealth final : public HealthSource {
     const auto stored = backend_.Counters();
     h.storage_backlog_items = stored.backlog_items;
     h.storage_writable = !stored.failing;
+    h.storage_commits = stored.committed_batches;
+    h.storage_commit_seconds = stored.commit_seconds_total;
     std::map<std::string, std::string> states =
         publisher_ ? std::map<std::string, std::string>() : StatesFromStore();
     if (publisher_ != nullptr) {

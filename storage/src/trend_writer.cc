@@ -179,7 +179,10 @@ void TrendWriter::Shared::Run() {
         merged.events.insert(merged.events.end(), b.events.begin(), b.events.end());
         merged.states.insert(merged.states.end(), b.states.begin(), b.states.end());
       }
+      const auto write_began = Clock::now();
       WriteOutcome outcome = store.Write(merged);
+      const double write_seconds =
+          std::chrono::duration<double>(Clock::now() - write_began).count();
       for (const auto& warning : outcome.warnings) Log(LogLevel::kWarning, warning);
       if (outcome.status.ok() && on_commit) {
         std::vector<CommittedInterval> committed;
@@ -193,6 +196,7 @@ void TrendWriter::Shared::Run() {
       in_flight_weight = 0;
       if (outcome.status.ok()) {
         counters.committed_batches += 1;
+        counters.commit_seconds_total += write_seconds;
         counters.committed_records += merged.records.size();
         counters.committed_intervals += outcome.intervals_written;
         counters.committed_events += outcome.events_written;

@@ -50,8 +50,11 @@ HealthSnapshot LarkfieldSnapshot() {
   s.router.segments = 40960;
   s.router.records = 4096;
   s.router.queued_samples = 2048;
+  s.router.max_queued_seconds = 0.08;  // 2048 samples at 25.6 kHz
   s.storage_writable = true;
   s.storage_backlog_items = 17;
+  s.storage_commits = 360;
+  s.storage_commit_seconds = 4.5;
   s.listeners = {{"tcp 127.0.0.1:7400", true, 7400}, {"udp 127.0.0.1:7401", false, 7401}};
   return s;
 }
@@ -119,6 +122,12 @@ TEST_F(HealthServerTest, MetricsParseWithPrometheusClientAndEqualTheSource) {
   EXPECT_EQ(m["sample.spinward_records_total{}"], "4096");
   EXPECT_EQ(m["sample.spinward_queue_depth_samples{}"], "2048");
   EXPECT_EQ(m["sample.spinward_storage_backlog_items{}"], "17");
+  // Processing lag and database write latency (a summary: prometheus_client reads _count, _sum).
+  EXPECT_EQ(m["family.spinward_processing_lag_seconds"], "gauge");
+  EXPECT_EQ(m["sample.spinward_processing_lag_seconds{}"], "0.08");
+  EXPECT_EQ(m["family.spinward_storage_commit_seconds"], "summary");
+  EXPECT_EQ(m["sample.spinward_storage_commit_seconds_count{}"], "360");
+  EXPECT_EQ(m["sample.spinward_storage_commit_seconds_sum{}"], "4.5");
 }
 
 TEST_F(HealthServerTest, CountersMoveWhenTheSourceMoves) {

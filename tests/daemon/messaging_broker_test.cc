@@ -435,6 +435,10 @@ TEST(MessagingBroker, AlarmsStatesAndBandValuesReachASubscriberWithTheDocumented
   auto after = daemon.Health("metrics", "/metrics");
   EXPECT_GT(std::stod(after["sample.spinward_frames_received_total{}"]), 0.0);
   EXPECT_GT(std::stod(after["sample.spinward_records_total{}"]), 0.0);
+  // The alarms were committed, so the writer's commit time was counted; nothing waits now.
+  EXPECT_GT(std::stod(after["sample.spinward_storage_commit_seconds_count{}"]), 0.0);
+  EXPECT_GT(std::stod(after["sample.spinward_storage_commit_seconds_sum{}"]), 0.0);
+  EXPECT_EQ(after["sample.spinward_processing_lag_seconds{}"], "0");
   EXPECT_EQ(after["sample.spinward_alarms_published_total{}"], "3");
   EXPECT_EQ(after["sample.spinward_outbox_pending{}"], "0");
   EXPECT_EQ(after["sample.spinward_points_by_state{state=\"danger\"}"], "3");

@@ -160,7 +160,8 @@ TEST(TrendWriter, AlarmEventsAreCommittedWithoutWaitingForTheBatchDelay) {
   while ((*writer)->counters().committed_events < 1 && std::chrono::steady_clock::now() < deadline)
     std::this_thread::sleep_for(10ms);
   EXPECT_EQ((*writer)->counters().committed_events, 1u);
-  EXPECT_EQ((*writer)->counters().committed_records, 2u);  // the waiting record went along
+  EXPECT_EQ((*writer)->counters().committed_records, 2u);      // the waiting record went along
+  EXPECT_GT((*writer)->counters().commit_seconds_total, 0.0);  // the commit's time is counted
   RawConnection raw(path);
   EXPECT_EQ(raw.Int("SELECT count(*) FROM outbox WHERE event_id = 'lf-8'"), 1);
 }

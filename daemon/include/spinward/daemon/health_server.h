@@ -31,6 +31,8 @@ struct HealthSnapshot {
   SourceTotals sources;
   bool storage_writable = false;
   std::uint64_t storage_backlog_items = 0;  // records accepted but not yet written
+  std::uint64_t storage_commits = 0;        // transactions committed ...
+  double storage_commit_seconds = 0.0;      // ... and the time they took, summed
   std::vector<BoundListener> listeners;
   bool drop_directory_watched = false;  // a source besides the listeners
   // Messaging (docs/messaging.md): readiness needs the broker only when one is configured.

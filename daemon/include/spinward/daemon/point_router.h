@@ -42,6 +42,8 @@ struct RouterTotals {
   std::uint64_t sequence_gaps = 0, time_jumps = 0;
   std::uint64_t unknown_sensor = 0, refused_full = 0;
   std::size_t queued_samples = 0;
+  // The processing lag: the most signal any one point has waiting for its pipeline, in seconds.
+  double max_queued_seconds = 0.0;
 };
 
 class PointRouter {

@@ -46,6 +46,7 @@ struct WriterOptions {
 
 struct WriterCounters {
   std::uint64_t committed_batches = 0;    // transactions committed
+  double commit_seconds_total = 0.0;      // time spent in those commits (database write latency)
   std::uint64_t committed_records = 0;    // measurement records in committed transactions
   std::uint64_t committed_intervals = 0;  // trend rows inserted
   std::uint64_t committed_events = 0;
