@@ -125,11 +125,15 @@ struct Daemon {
       if (name == reason) return count;
     return 0;
   }
-  bool LogMentions(const std::string& text) {
-    std::lock_guard lock(log_mutex);
-    for (const auto& line : log)
-      if (line.find(text) != std::string::npos) return true;
-    return false;
+  // The log is written by the service's threads after they count what they log, so a test that
+  // waited for a counter may still be ahead of the line: wait for it too.
+  bool EventuallyLogs(const std::string& text) {
+    return WaitUntil([&] {
+      std::lock_guard lock(log_mutex);
+      for (const auto& line : log)
+        if (line.find(text) != std::string::npos) return true;
+      return false;
+    });
   }
 };
 
@@ -341,7 +345,7 @@ TEST(NetworkListener, EveryMalformedFrameClosesTcpCountedByReasonAndTheDaemonSer
     ::close(again);
   }
   EXPECT_EQ(malformed, 24u) << "MANIFEST changed: check the expected reasons above";
-  EXPECT_TRUE(daemon.LogMentions("bad frame from 127.0.0.1"));
+  EXPECT_TRUE(daemon.EventuallyLogs("bad frame from 127.0.0.1"));
 }
 
 TEST(NetworkListener, EveryMalformedDatagramIsDroppedCountedByReasonAndTheDaemonServesOn) {
@@ -391,7 +395,7 @@ TEST(NetworkListener, UnknownSensorIsCountedAndTheConnectionStaysOpen) {
   ::close(fd);
   SendDatagram(daemon.Port(false), Fixture("good_utf8_sensor_id.bin"));
   EXPECT_TRUE(WaitUntil([&] { return daemon.service->Sources().unknown_sensor == 2; }));
-  EXPECT_TRUE(daemon.LogMentions("unknown sensor 'LK-P102-DE-V'"));
+  EXPECT_TRUE(daemon.EventuallyLogs("unknown sensor 'LK-P102-DE-V'"));
 }
 
 TEST(NetworkListener, PeersOutsideTheAllowListAreRefused) {
@@ -447,7 +451,7 @@ TEST(NetworkListener, ConnectionsOverTheLimitAreRefused) {
   }
   EXPECT_TRUE(admitted);
   ::close(second);
-  EXPECT_TRUE(daemon.LogMentions("max_connections 2 reached"));
+  EXPECT_TRUE(daemon.EventuallyLogs("max_connections 2 reached"));
 }
 
 TEST(NetworkListener, SequenceGapsAndWrongRatesAreCountedPerPoint) {
@@ -471,8 +475,8 @@ TEST(NetworkListener, SequenceGapsAndWrongRatesAreCountedPerPoint) {
   EXPECT_EQ(totals.sequence_gaps, 1u);
   EXPECT_EQ(totals.rejected_rate, 1u);
   EXPECT_EQ(totals.samples, 2500u);
-  EXPECT_TRUE(daemon.LogMentions("sequence gap: expected 3, got 4"));
-  EXPECT_TRUE(daemon.LogMentions("12800"));
+  EXPECT_TRUE(daemon.EventuallyLogs("sequence gap: expected 3, got 4"));
+  EXPECT_TRUE(daemon.EventuallyLogs("12800"));
 }
 
 // --- back-pressure -------------------------------------------------------------------------------
