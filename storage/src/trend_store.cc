@@ -8,6 +8,7 @@
 
 #include "schema.h"
 #include "sqlite_db.h"
+#include "trend_row_columns.h"
 
 namespace spinward::storage {
 namespace {
@@ -622,15 +623,7 @@ Result<std::vector<TrendRow>> TrendStore::Trend(const TrendQuery& query) {
   std::vector<TrendRow> rows;
   int rc = 0;
   while ((rc = stmt->Step()) == SQLITE_ROW) {
-    TrendRow row;
-    row.start_ns = stmt->Int(0);
-    row.end_ns = stmt->Int(1);
-    row.value = stmt->IsNull(2) ? std::nan("") : stmt->Real(2);
-    row.min = stmt->IsNull(3) ? std::nan("") : stmt->Real(3);
-    row.max = stmt->IsNull(4) ? std::nan("") : stmt->Real(4);
-    row.count = stmt->Int(5);
-    row.fault_count = stmt->Int(6);
-    rows.push_back(row);
+    rows.push_back(internal::TrendRowFromColumns(*stmt));
   }
   if (rc != SQLITE_DONE) return Error{"trend query on '" + s.path + "': " + s.db.ErrorMessage()};
   return rows;
