@@ -207,6 +207,8 @@ TEST_F(ReportOnDemo, ForecastBracketsTheDangerCrossing) {
   }
 }
 
+constexpr const char* kNoRequestLine = "(no request line)";
+
 // A TCP listener on an OS-chosen loopback port that keeps the first line of each request sent to
 // it: the proxy every browser request goes to.
 class RequestRecorder {
@@ -228,7 +230,7 @@ class RequestRecorder {
         if (::poll(&p, 1, 100) <= 0) continue;
         const int c = ::accept(fd_, nullptr, nullptr);
         if (c < 0) continue;
-        std::string line = "(no request line)";
+        std::string line = kNoRequestLine;
         pollfd q{c, POLLIN, 0};
         char buf[2048];
         if (::poll(&q, 1, 2000) > 0) {
@@ -266,7 +268,10 @@ class RequestRecorder {
 // even on about:blank and with every switch that turns such traffic down: those requests are the
 // browser's, not the page's. The page names no host at all (checked above), so any other request
 // would be the report reaching out.
+// A connection that closed without sending a request line (the browser opens spare proxy
+// connections ahead of need and drops them when it exits) fetched nothing, so it is not counted.
 bool BrowserOwnRequest(const std::string& line) {
+  if (line == kNoRequestLine) return true;
   static const std::regex own(
       R"(^(CONNECT [a-z0-9.-]+\.(google\.com|googleapis\.com):443 |(GET|POST) https?://[a-z0-9.-]+\.(google\.com|googleapis\.com)/))");
   return std::regex_search(line, own);
