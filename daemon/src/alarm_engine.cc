@@ -125,6 +125,14 @@ std::vector<AlarmSnapshot> AlarmEngine::Snapshots() const {
   return snapshots;
 }
 
+std::vector<AlarmSnapshot> AlarmEngine::Snapshots(std::string_view point_id) const {
+  std::vector<AlarmSnapshot> snapshots;
+  auto point = points_.find(point_id);
+  if (point == points_.end()) return snapshots;
+  for (const auto& [measure, machine] : point->second) snapshots.push_back(machine.Snapshot());
+  return snapshots;
+}
+
 Status AlarmEngine::Restore(const AlarmSnapshot& snapshot) {
   AlarmStateMachine* machine = Find(snapshot.point_id, snapshot.measure);
   if (!machine) {

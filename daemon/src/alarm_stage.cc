@@ -88,11 +88,13 @@ Result<std::unique_ptr<AlarmStage>> AlarmStage::Create(
     stage->last_event_id_[key] = state.last_event_id;
     stage->last_value_[key] = state.last_value;
   }
+  stage->NoteUntouchedStatesLocked();
   return stage;
 }
 
 void AlarmStage::AddOutcome(const std::vector<AlarmTransition>& transitions,
-                            storage::WriteBatch& batch, std::int64_t now_ns) {
+                            storage::WriteBatch& batch, std::int64_t now_ns,
+                            std::string_view point_id) {
   for (const auto& t : transitions) {
     storage::AlarmEventRecord event;
     event.event_id = id_prefix_ + "-" + std::to_string(next_event_++);
@@ -117,8 +119,11 @@ void AlarmStage::AddOutcome(const std::vector<AlarmTransition>& transitions,
     if (on_transition_) on_transition_(t, event.event_id);
     batch.events.push_back(std::move(event));
   }
-  // Every state whose snapshot changed since it was last written (on-delay counts included).
-  for (const auto& snapshot : engine_.Snapshots()) {
+  // Every state whose snapshot changed since it was last written (on-delay counts included). An
+  // interval can change only its own point's alarms: looking at every point's would make each
+  // record cost in proportion to the site's size.
+  for (const auto& snapshot :
+       point_id.empty() ? engine_.Snapshots() : engine_.Snapshots(point_id)) {
     const auto key = Key(snapshot.point_id, snapshot.measure);
     std::string text = SnapshotToText(snapshot);
     auto& last = last_written_state_[key];
@@ -143,6 +148,15 @@ void AlarmStage::AddOutcome(const std::vector<AlarmTransition>& transitions,
   }
 }
 
+// A rule that has judged nothing yet has no state worth storing: readers show its point as
+// unknown until its first interval, whether or not a periodic stale check ran in between.
+void AlarmStage::NoteUntouchedStatesLocked() {
+  for (const auto& snapshot : engine_.Snapshots()) {
+    last_written_state_.try_emplace(Key(snapshot.point_id, snapshot.measure),
+                                    SnapshotToText(snapshot));
+  }
+}
+
 void AlarmStage::SubmitLocked(storage::WriteBatch batch) {
   if (batch.empty()) return;
   if (!out_.Submit(std::move(batch))) ++submit_failures_;
@@ -164,7 +178,9 @@ void AlarmStage::Consume(const storage::MeasurementRecord& incoming) {
   for (const auto& [measure, value] : values) last_value_[Key(record.point_id, measure)] = value;
   storage::WriteBatch batch;
   auto transitions = engine_.Evaluate(record.point_id, record.interval_end_ns, values, verdict);
-  if (transitions.ok()) AddOutcome(*transitions, batch, record.interval_end_ns);
+  if (transitions.ok()) {
+    AddOutcome(*transitions, batch, record.interval_end_ns, record.point_id);
+  }
   batch.records.push_back(std::move(record));
   SubmitLocked(std::move(batch));
 }
@@ -194,6 +210,7 @@ Status AlarmStage::Reconfigure(const std::vector<PointJudgement>& points) {
   engine_ = std::move(next);
   sensor_options_ = std::move(sensor_options);
   units_ = std::move(units);
+  NoteUntouchedStatesLocked();
   return Status::Ok();
 }
 

@@ -233,5 +233,48 @@ TEST(AlarmStage, HighValueRepeatedRaisesOnlyOnce) {
   EXPECT_EQ(out.batches.size(), 4u);  // still one batch per record
 }
 
+TEST(AlarmStage, AnIntervalWritesTheStatesOfItsOwnPointOnly) {
+  // Two points with the same rule. Each interval changes its own point's alarm state (the time of
+  // its last data at least), never the other's: a batch must carry only the states of the point
+  // whose record it holds, and each point's state still reaches storage with its own record.
+  PointJudgement second = Judgement(false);
+  second.point_id = "P102-DE-H";
+  second.rules[0].point_id = second.point_id;
+  CollectingSubmitter out;
+  auto created = AlarmStage::Create({Judgement(false), second}, {}, out);
+  ASSERT_TRUE(created.ok()) << created.message();
+  auto& stage = *created.value();
+  stage.Consume(Record(0, 2.0));
+  storage::MeasurementRecord other = Record(0, 5.0);  // above B/C 4.5: alert
+  other.point_id = second.point_id;
+  stage.Consume(other);
+  stage.Consume(Record(1, 2.0));
+  ASSERT_EQ(out.batches.size(), 3u);
+  const std::string points[] = {"P101-DE-H", "P102-DE-H", "P101-DE-H"};
+  for (std::size_t b = 0; b < 3; ++b) {
+    ASSERT_FALSE(out.batches[b].states.empty()) << "batch " << b;
+    for (const auto& state : out.batches[b].states) {
+      EXPECT_EQ(state.point_id, points[b]) << "batch " << b;
+    }
+  }
+  EXPECT_EQ(out.batches[1].states[0].state, "alert");
+  EXPECT_EQ(*stage.State("P101-DE-H", "velocity"), AlarmState::kNormal);
+}
+
+TEST(AlarmStage, AStaleCheckBeforeAnyDataStoresNothing) {
+  // A rule that has judged no interval has no state to store: readers show its point as unknown
+  // (docs/health.md) however many periodic stale checks ran before the first data.
+  CollectingSubmitter out;
+  auto stage = MakeStage(out, /*latching=*/false);
+  ASSERT_TRUE(stage);
+  stage->CheckStale(kT0);
+  stage->CheckStale(kT0 + 2 * kSecond);
+  EXPECT_TRUE(out.batches.empty());
+  stage->Consume(Record(0, 2.0));
+  ASSERT_EQ(out.batches.size(), 1u);
+  ASSERT_EQ(out.batches[0].states.size(), 1u);
+  EXPECT_EQ(out.batches[0].states[0].state, "normal");
+}
+
 }  // namespace
 }  // namespace spinward::daemon

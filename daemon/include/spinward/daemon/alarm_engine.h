@@ -65,6 +65,8 @@ class AlarmEngine final : public AlarmEvaluator {
 
   Result<AlarmState> State(std::string_view point_id, std::string_view measure) const;
   std::vector<AlarmSnapshot> Snapshots() const;
+  // The snapshots of one point's alarms only (an interval of a point changes no other point's).
+  std::vector<AlarmSnapshot> Snapshots(std::string_view point_id) const;
   // Restores one alarm from storage without emitting transitions; its rule must be added first.
   Status Restore(const AlarmSnapshot& snapshot);
 

@@ -17,6 +17,7 @@
 #include <memory>
 #include <mutex>
 #include <string>
+#include <string_view>
 #include <vector>
 
 #include "spinward/daemon/alarm_engine.h"
@@ -81,8 +82,9 @@ class AlarmStage final : public RecordSink {
   AlarmStage(BatchSubmitter& out, TransitionListener on_transition);
   // Turns transitions into events and adds every changed state of `point_id` ("" = all) to batch.
   void AddOutcome(const std::vector<AlarmTransition>& transitions, storage::WriteBatch& batch,
-                  std::int64_t now_ns);
+                  std::int64_t now_ns, std::string_view point_id = {});
   void SubmitLocked(storage::WriteBatch batch);
+  void NoteUntouchedStatesLocked();
 
   mutable std::mutex mutex_;
   AlarmEngine engine_;
