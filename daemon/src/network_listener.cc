@@ -139,6 +139,8 @@ struct TcpSession : std::enable_shared_from_this<TcpSession> {
         idle_timer(listener->io),
         retry_timer(listener->io),
         assembler(DecodeLimits{listener->options.max_frame_bytes}) {
+    assembler.UseSpareStorage(
+        [&consumer = listener->consumer] { return consumer.SpareSampleBuffer(); });
     boost::system::error_code ec;
     auto endpoint = socket.remote_endpoint(ec);
     peer = ec ? "unknown peer"
@@ -297,7 +299,8 @@ void NetworkListener::Impl::DoReceive() {
             self->Report("peer", "dropped datagram from " + peer + ": not in allowed_peers");
           } else {
             auto decoded = DecodeFrame(std::span<const std::uint8_t>(self->datagram.data(), n),
-                                       DecodeLimits{self->options.max_frame_bytes});
+                                       DecodeLimits{self->options.max_frame_bytes},
+                                       self->consumer.SpareSampleBuffer());
             if (!decoded.ok()) {
               self->CountBad(decoded.error(), peer);
             } else {

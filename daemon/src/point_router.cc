@@ -11,6 +11,7 @@
 #include <thread>
 
 #include "rate_limited_reporter.h"
+#include "spinward/daemon/sample_buffer_pool.h"
 
 namespace spinward::daemon {
 namespace {
@@ -37,6 +38,7 @@ struct PointRouter::Impl {
   std::map<std::string, std::shared_ptr<PointWorker>> by_sensor;
   std::vector<std::shared_ptr<PointWorker>> retired;  // flushed, kept until their tasks end
   RateLimitedReporter limiter;
+  SampleBufferPool spare_buffers;  // processed blocks' sample memory, for the sources to reuse
   std::atomic<bool> stopped{false};
   std::atomic<std::uint64_t> unknown_sensor{0};
   std::atomic<std::uint64_t> refused_full{0};
@@ -63,6 +65,7 @@ struct PointRouter::Impl {
         report(id, message);
       }
     }
+    spare_buffers.Give(std::move(block.samples));
     worker->queued_samples -= n;
     worker->queued_tasks -= 1;
   }
@@ -181,6 +184,8 @@ OfferResult PointRouter::Offer(SampleBlock&& block) {
   });
   return OfferResult::kQueued;
 }
+
+std::vector<double> PointRouter::SpareSampleBuffer() { return impl_->spare_buffers.Take(); }
 
 void PointRouter::Drain() {
   for (;;) {

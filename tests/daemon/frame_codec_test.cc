@@ -108,6 +108,20 @@ TEST(FrameCodec, DecodesTheDocExampleFixture) {
                                      0.003662109375, -0.003662109375, 0.078125));
 }
 
+TEST(FrameCodec, DecodesIntoTheCallersStorageReusingItsMemory) {
+  // The doc example again, decoded into a recycled buffer that still holds another frame's
+  // samples: the result is exactly the doc's table and lives in the buffer's memory.
+  const Bytes bytes = ParseHex(ReadText(FramesDir() / "doc_example_int16.hex"));
+  std::vector<double> storage(100, std::numeric_limits<double>::quiet_NaN());
+  const double* memory = storage.data();
+  const FrameResult result = DecodeFrame(bytes, DecodeLimits{}, std::move(storage));
+  ASSERT_TRUE(result.ok()) << result.error().message;
+  EXPECT_THAT(result.value().samples,
+              ::testing::ElementsAre(0.0, 0.30517578125, -0.30517578125, 9.999694824218750, -10.0,
+                                     0.003662109375, -0.003662109375, 0.078125));
+  EXPECT_EQ(result.value().samples.data(), memory);
+}
+
 TEST(FrameCodec, DocHexMatchesFixture) {
   // The hex block in docs/protocol.md and the fixture the tests decode must be the same bytes.
   const std::string doc = ReadText(testing::SourceDir() / "docs" / "protocol.md");
@@ -472,6 +486,22 @@ TEST(FrameAssembler, AnyChunkingYieldsTheSameFrames) {
       EXPECT_EQ(assembler.bytes_consumed(), s.bytes.size());
     }
   }
+}
+
+TEST(FrameAssembler, DecodesEachFrameIntoTheSpareStorageItIsGiven) {
+  const Stream s = MakeStream(12);
+  FrameAssembler assembler;
+  std::size_t asked = 0;
+  assembler.UseSpareStorage([&asked] {
+    ++asked;
+    return std::vector<double>(4096, -1.0);  // a used buffer: its old contents must not show
+  });
+  std::vector<Frame> got;
+  const auto error = assembler.Feed(s.bytes, &got);
+  ASSERT_FALSE(error.has_value()) << error->message;
+  ExpectSameFrames(got, s.frames);
+  EXPECT_EQ(asked, s.frames.size());
+  for (const auto& frame : got) EXPECT_GE(frame.samples.capacity(), 4096u);
 }
 
 TEST(FrameAssembler, HoldsAPartialFrameUntilItCompletes) {

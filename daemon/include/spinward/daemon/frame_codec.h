@@ -11,6 +11,7 @@
 
 #include <cstddef>
 #include <cstdint>
+#include <functional>
 #include <optional>
 #include <span>
 #include <string>
@@ -97,7 +98,9 @@ Result<std::vector<std::uint8_t>> EncodeFrame(const FrameMetadata& metadata,
 
 // Decodes `bytes`, which must hold exactly one frame (a UDP datagram): fewer bytes than declared is
 // kTruncated, more is kBadLength. Checks run in the order of docs/protocol.md, "Receiver checks".
-FrameResult DecodeFrame(std::span<const std::uint8_t> bytes, const DecodeLimits& limits = {});
+// The samples are decoded into `storage` (its capacity reused; see SampleBufferPool).
+FrameResult DecodeFrame(std::span<const std::uint8_t> bytes, const DecodeLimits& limits = {},
+                        std::vector<double> storage = {});
 
 // Reads the 12-byte prefix and returns the declared frame length after checking magic, version,
 // minimum length and the limit. `prefix` must hold at least kFramePrefixBytes bytes.
@@ -120,6 +123,10 @@ class FrameAssembler {
   [[nodiscard]] std::optional<FrameError> Feed(std::span<const std::uint8_t> chunk,
                                                std::vector<Frame>* frames);
 
+  // Where decoded samples go: each frame's samples are decoded into a vector `spare` returns
+  // (a recycled buffer, or an empty vector); without one, into a new vector.
+  void UseSpareStorage(std::function<std::vector<double>()> spare);
+
   bool failed() const { return error_.has_value(); }
   // Bytes held for the frame in progress (0 between frames).
   std::size_t buffered_bytes() const { return buffer_.size(); }
@@ -128,12 +135,14 @@ class FrameAssembler {
 
  private:
   std::optional<FrameError> Fail(FrameError error);
+  std::vector<double> SpareStorage() const;
 
   DecodeLimits limits_;
   std::vector<std::uint8_t> buffer_;  // the frame in progress, at most limits_.max_frame_bytes
   std::size_t expected_ = 0;          // its declared length, once the prefix is in; else 0
   std::uint64_t bytes_consumed_ = 0;
   std::optional<FrameError> error_;
+  std::function<std::vector<double>()> spare_;
 };
 
 }  // namespace spinward::daemon

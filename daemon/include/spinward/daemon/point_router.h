@@ -60,6 +60,8 @@ class PointRouter {
   Result<ReloadSummary> Configure(const std::vector<PointSettings>& points);
 
   OfferResult Offer(SampleBlock&& block);
+  // A processed block's sample buffer, emptied, for a source to decode into (else an empty one).
+  std::vector<double> SpareSampleBuffer();
   bool KnowsSensor(const std::string& sensor_id) const;
 
   // Waits until every queued block has been processed.

@@ -17,6 +17,9 @@ class BlockConsumer {
  public:
   virtual ~BlockConsumer() = default;
   virtual OfferResult Offer(SampleBlock&& block) = 0;
+  // An empty vector to decode the next block's samples into: a buffer of a block already
+  // processed, when the consumer recycles them, so its memory is reused.
+  virtual std::vector<double> SpareSampleBuffer() { return {}; }
 };
 
 // Adapts the router to BlockConsumer.
@@ -24,6 +27,7 @@ class RouterConsumer final : public BlockConsumer {
  public:
   explicit RouterConsumer(PointRouter& router) : router_(router) {}
   OfferResult Offer(SampleBlock&& block) override { return router_.Offer(std::move(block)); }
+  std::vector<double> SpareSampleBuffer() override { return router_.SpareSampleBuffer(); }
 
  private:
   PointRouter& router_;
