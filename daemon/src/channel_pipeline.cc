@@ -5,6 +5,8 @@
 #include <span>
 #include <utility>
 
+#include "spinward/estimators/finite_check.h"
+
 namespace spinward::daemon {
 namespace {
 
@@ -206,13 +208,13 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
                 " Hz differs from the configured " + std::to_string(settings_.sample_rate_hz) +
                 " Hz"};
   }
-  for (std::size_t i = 0; i < n; ++i) {
-    if (!std::isfinite(block.samples[i])) {
-      counters_.rejected_non_finite++;
-      NoteRejected(block);
-      return {BlockVerdict::kNonFiniteSamples, false,
-              "non-finite sample at index " + std::to_string(i) + " of " + std::to_string(n)};
-    }
+  if (!estimators::AllFinite(block.samples)) {
+    std::size_t i = 0;
+    while (std::isfinite(block.samples[i])) ++i;
+    counters_.rejected_non_finite++;
+    NoteRejected(block);
+    return {BlockVerdict::kNonFiniteSamples, false,
+            "non-finite sample at index " + std::to_string(i) + " of " + std::to_string(n)};
   }
   if (block.in_volts && !settings_.sensitivity) {
     counters_.rejected_other++;
@@ -250,12 +252,13 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
   last_sequence_ = block.sequence;
   lost_block_ = false;
 
-  scaled_.resize(n);
+  // Samples in engineering units are used as they came; volts go through the sensitivity first.
+  std::span<const double> samples = block.samples;
   if (block.in_volts) {
+    scaled_.resize(n);
     for (std::size_t i = 0; i < n; ++i)
       scaled_[i] = settings_.sensitivity->VoltsToUnits(block.samples[i]);
-  } else {
-    std::copy(block.samples.begin(), block.samples.end(), scaled_.begin());
+    samples = scaled_;
   }
 
   const estimators::StreamingWelch::AverageCallback on_average =
@@ -267,7 +270,7 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
       interval_open_ = true;
     }
     const std::size_t take = std::min(n - pos, SamplesUntilAverageCompletes());
-    std::span<const double> piece(scaled_.data() + pos, take);
+    std::span<const double> piece = samples.subspan(pos, take);
     const std::size_t segments_before = welch_.segments_total();
     welch_.Push(piece, on_average).IgnoreError();  // finite already checked above
     counters_.segments += welch_.segments_total() - segments_before;

@@ -30,6 +30,7 @@
 
 #include "number_text.h"
 #include "spinward/estimators/fft_plan_cache.h"
+#include "spinward/estimators/finite_check.h"
 
 namespace spinward::estimators {
 namespace {
@@ -82,17 +83,6 @@ double SegmentSum(std::span<const double> a, std::span<const double> b) {
     n += count;
   }
   return ((lane[0] + lane[1]) + (lane[2] + lane[3])) + ((lane[4] + lane[5]) + (lane[6] + lane[7]));
-}
-
-// True when no sample is NaN or Inf, i.e. none has an all-ones exponent. Adding 2^52 to the masked
-// exponent carries into the sign bit exactly when the exponent is all ones; the OR of those sums is
-// an integer reduction the compiler vectorizes, where a std::isfinite counting loop stays scalar.
-bool AllFinite(std::span<const double> samples) {
-  constexpr std::uint64_t kExponent = 0x7ff0000000000000;
-  constexpr std::uint64_t kExponentOne = 0x0010000000000000;
-  std::uint64_t carries = 0;
-  for (double x : samples) carries |= (std::bit_cast<std::uint64_t>(x) & kExponent) + kExponentOne;
-  return (carries >> 63) == 0;
 }
 
 }  // namespace
