@@ -82,7 +82,8 @@ def cpu_seconds_so_far(pid):
     return (int(fields[11]) + int(fields[12])) / os.sysconf("SC_CLK_TCK")
 
 
-def run_daemon_round(binary, n, seconds, workdir, paced, frame_samples=2560, interval_s=1):
+def run_daemon_round(binary, n, seconds, workdir, paced, frame_samples=2560, interval_s=1,
+                     feeder=None, distinct_signals=0):
     config = workdir / f"site_{n}.yaml"
     db = workdir / f"trends_{n}.sqlite"
     for p in workdir.glob(f"trends_{n}.sqlite*"):
@@ -102,8 +103,10 @@ def run_daemon_round(binary, n, seconds, workdir, paced, frame_samples=2560, int
         time.sleep(0.05)
     port = json.loads(ready.read_text())["listeners"][0]["port"]
     startup_cpu = cpu_seconds_so_far(daemon.pid)  # building N pipelines is not steady state
-    feed = [str(binary), "feed", "--to", f"127.0.0.1:{port}", "--sensors", str(n),
+    feed = [str(feeder or binary), "feed", "--to", f"127.0.0.1:{port}", "--sensors", str(n),
             "--seconds", str(seconds), "--engineering", "--frame-samples", str(frame_samples)]
+    if distinct_signals:
+        feed += ["--distinct-signals", str(distinct_signals)]
     if paced:
         feed.append("--realtime")
     t0 = time.perf_counter()
@@ -167,6 +170,13 @@ def main():
                         help="averaging interval: one record per point per interval")
     parser.add_argument("--frame-samples", type=int, default=2560,
                         help="samples per frame the feeder sends (2560: 0.1 s at 25.6 kHz)")
+    parser.add_argument("--distinct-signals", type=int, default=4,
+                        help="signals the feeder makes up front and shares among the sensors "
+                             "(0: one per sensor, made while sending: then the feeder, not the "
+                             "daemon, limits the wall-clock figure)")
+    parser.add_argument("--baseline-binary",
+                        help="another `spinward` (e.g. built from an older commit) run in the "
+                             "same rounds, fed by this build's feeder; prints the per-CPU ratio")
     args = parser.parse_args()
     build = pathlib.Path(args.build_dir)
     if not args.no_build:
@@ -180,14 +190,31 @@ def main():
     counts = [int(x) for x in args.sensors.split(",")]
 
     rows = {n: [] for n in counts}
+    baseline_rows = {n: [] for n in counts}
     with tempfile.TemporaryDirectory(prefix="spinward-e2e-") as tmp:
         workdir = pathlib.Path(tmp)
         for r in range(args.rounds):
             estimator = estimator_samples_per_s(bench_binary)
             for n in (counts if r % 2 == 0 else list(reversed(counts))):
-                result = run_daemon_round(binary, n, args.seconds, workdir, paced=False,
-                                          frame_samples=args.frame_samples,
-                                          interval_s=args.interval_s)
+                if args.baseline_binary:  # side by side, first one way round, then the other
+                    order = ["base", "new"] if r % 2 == 0 else ["new", "base"]
+                else:
+                    order = ["new"]
+                for which in order:
+                    if which == "base":
+                        base = run_daemon_round(pathlib.Path(args.baseline_binary), n,
+                                                args.seconds, workdir, paced=False,
+                                                frame_samples=args.frame_samples,
+                                                interval_s=args.interval_s, feeder=binary,
+                                                distinct_signals=args.distinct_signals)
+                        base["daemon_sensors_per_core"] = n * args.seconds / base["daemon_cpu_s"]
+                        baseline_rows[n].append(base)
+                        print("baseline:", json.dumps(base), flush=True)
+                    else:
+                        result = run_daemon_round(binary, n, args.seconds, workdir, paced=False,
+                                                  frame_samples=args.frame_samples,
+                                                  interval_s=args.interval_s,
+                                                  distinct_signals=args.distinct_signals)
                 daemon_rate = n * args.seconds * RATE / result["wall_s"]
                 result["daemon_sensors_realtime"] = daemon_rate / RATE
                 # Per core: seconds of signal processed per second of the daemon's CPU time.
@@ -202,7 +229,8 @@ def main():
         if args.paced:
             paced = run_daemon_round(binary, max(counts), args.seconds, workdir, paced=True,
                                      frame_samples=args.frame_samples,
-                                     interval_s=args.interval_s)
+                                     interval_s=args.interval_s,
+                                     distinct_signals=args.distinct_signals)
             print("paced:", json.dumps(paced), flush=True)
 
     print("\nsummary: sensors at 25.6 kHz held in real time (medians over rounds; one processing "
@@ -220,6 +248,15 @@ def main():
               f"{statistics.median(x['estimator_sensors_realtime'] for x in rs):>15.0f} "
               f"{statistics.median(x['ratio_per_core_to_estimator'] for x in rs):>19.2f} "
               f"{max(lost):>13}")
+    if args.baseline_binary:
+        print("\nthis build / baseline, daemon sensors per CPU s (median of per-round ratios, "
+              "min..max):")
+        for n in counts:
+            ratios = [a["daemon_sensors_per_core"] / b["daemon_sensors_per_core"]
+                      for a, b in zip(rows[n], baseline_rows[n])]
+            print(f"{n:>8} {statistics.median(ratios):.2f} ({min(ratios):.2f}..{max(ratios):.2f}); "
+                  f"baseline median "
+                  f"{statistics.median(b['daemon_sensors_per_core'] for b in baseline_rows[n]):.0f}")
     if paced:
         n = paced["sensors"]
         print(f"paced run, {n} sensors at {RATE} Hz for {args.seconds} s: records "

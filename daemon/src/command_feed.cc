@@ -38,6 +38,9 @@ constexpr const char* kFeedHelp =
     "  --defect X            bearing defect impact size in m/s^2 (default 6; 0 for a healthy "
     "pump)\n"
     "  --realtime            pace frames at the sample rate (default: as fast as possible)\n"
+    "  --distinct-signals K  make K signals before sending and share them among the sensors\n"
+    "                        (default: one per sensor, made while sending; a load test uses a\n"
+    "                        few, so the sender outruns the daemon it measures)\n"
     "  --file REC            send a recording (WAV, CSV, raw) instead; --channel N picks a "
     "channel\n"
     "  --start-ns NS         time of the first sample, ns since the Unix epoch (default: now)\n";
@@ -52,11 +55,12 @@ struct Feed {
 }  // namespace
 
 int CommandFeed(const Arguments& args) {
-  auto opt = OptionReader::Parse(
-      args,
-      {"--to", "--sensor", "--sensors", "--sensor-prefix", "--seconds", "--rate", "--frame-samples",
-       "--format", "--sensitivity", "--defect", "--file", "--channel", "--start-ns"},
-      {"--help", "--udp", "--realtime", "--engineering"});
+  auto opt =
+      OptionReader::Parse(args,
+                          {"--to", "--sensor", "--sensors", "--sensor-prefix", "--seconds",
+                           "--rate", "--frame-samples", "--format", "--sensitivity", "--defect",
+                           "--file", "--channel", "--start-ns", "--distinct-signals"},
+                          {"--help", "--udp", "--realtime", "--engineering"});
   auto fail = [](const std::string& message, int code) {
     std::fprintf(stderr, "spinward feed: %s\n", message.c_str());
     return code;
@@ -81,11 +85,16 @@ int CommandFeed(const Arguments& args) {
   auto sensor_count = opt->Integer("--sensors", 0, 0, 100000);
   auto defect = opt->Number("--defect", 6.0);
   auto channel = opt->Integer("--channel", 0, 0, 1024);
-  for (const Status& s : {seconds.status(), rate.status(), frame_samples.status(),
-                          sensor_count.status(), defect.status(), channel.status()}) {
+  auto distinct = opt->Integer("--distinct-signals", 0, 1, 64);
+  for (const Status& s :
+       {seconds.status(), rate.status(), frame_samples.status(), sensor_count.status(),
+        defect.status(), channel.status(), distinct.status()}) {
     if (!s.ok()) return fail(s.message(), 2);
   }
   if (!(*seconds > 0)) return fail("--seconds must be positive", 2);
+  if (*distinct > 0 && opt->Has("--file")) {
+    return fail("--distinct-signals makes synthetic signals: it does not go with --file", 2);
+  }
   if (!(*rate > 0)) return fail("--rate must be positive", 2);
   SampleFormat format = SampleFormat::kFloat32;
   const std::string format_text = opt->Value("--format").value_or("float32");
@@ -136,13 +145,30 @@ int CommandFeed(const Arguments& args) {
                                0, std::numeric_limits<long long>::max());
   if (!start_ns.ok()) return fail(start_ns.message(), 2);
 
+  // Signals made up front (--distinct-signals): sensor i sends signal i mod K.
+  std::vector<std::vector<double>> made(static_cast<std::size_t>(*distinct));
+  for (std::size_t k = 0; k < made.size(); ++k) {
+    PumpSignalSpec spec;
+    spec.sample_rate_hz = sample_rate;
+    spec.defect_impact_m_s2 = *defect;
+    spec.seed = 1000 + k;
+    auto generator = PumpSignalGenerator::Create(spec);
+    if (!generator.ok()) return fail(generator.message(), 2);
+    made[k].resize(static_cast<std::size_t>(*seconds * sample_rate));
+    generator->Generate(made[k]);
+    if (!engineering) {
+      for (double& v : made[k]) v *= volts_per_ms2;
+    }
+  }
   std::vector<Feed> feeds;
   for (std::size_t i = 0; i < sensors.size(); ++i) {
     Feed feed;
     feed.stream = std::make_unique<SensorStream>(
         sensors[i], sample_rate, *start_ns, format, engineering ? 500.0 : 10.0,
         engineering ? ScaleUnit::kEngineering : ScaleUnit::kVolts);
-    if (recorded.empty()) {
+    if (!made.empty()) {
+      feed.recording = &made[i % made.size()];
+    } else if (recorded.empty()) {
       PumpSignalSpec spec;
       spec.sample_rate_hz = sample_rate;
       spec.defect_impact_m_s2 = *defect;

@@ -200,6 +200,27 @@ TEST(RunCommand, FedOverUdpThenStoppedBySigtermWritesEveryInterval) {
   ExpectSevenIntervals(daemon.Records());
 }
 
+TEST(RunCommand, SignalsMadeBeforeSendingGiveTheSameIntervals) {
+  // `feed --distinct-signals` (load tests) makes its signals up front; the daemon must see the same
+  // stream shape: 3 s in volts, 7 intervals of 17 segments (segment formula in the header).
+  const fs::path dir = spinward::testing::FreshTempDir("run-distinct");
+  Daemon daemon(dir, TestDataDir() / "daemon" / "run_site.yaml");
+  ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
+  const auto fed = Feed(daemon.tcp_port(), "--seconds 3 --distinct-signals 1");
+  ASSERT_EQ(fed.exit_code, 0) << fed.error_output;
+  ASSERT_TRUE(daemon.WaitLog("record P101-DE-H segments 17", 7)) << daemon.Log();
+  daemon.Signal(SIGTERM);
+  EXPECT_EQ(daemon.WaitExit(), 0) << daemon.Log();
+  ExpectSevenIntervals(daemon.Records());
+  const auto with_file = Feed(daemon.tcp_port(), "--distinct-signals 2 --file x.wav");
+  EXPECT_EQ(with_file.exit_code, 2);
+  EXPECT_NE(with_file.error_output.find("does not go with --file"), std::string::npos)
+      << with_file.error_output;
+  const auto zero = Feed(daemon.tcp_port(), "--distinct-signals 0");
+  EXPECT_EQ(zero.exit_code, 2);
+  EXPECT_NE(zero.error_output.find("--distinct-signals"), std::string::npos) << zero.error_output;
+}
+
 TEST(RunCommand, SigtermFlushesThePartialInterval) {
   // 1 s: N = 25600, K = floor((25600 - 1280) / 640) + 1 = 39 = 2 x 17 + 5.
   const fs::path dir = spinward::testing::FreshTempDir("run-flush");
