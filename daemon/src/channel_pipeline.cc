@@ -160,8 +160,23 @@ void ChannelPipeline::NoteRejected(const SampleBlock& block) {
 // Raw facts for the sensor checks: the longest run of identical samples (a stuck sensor or a dead
 // channel repeats one value) and the samples at or beyond the clip level.
 void ChannelPipeline::CountSensorFacts(std::span<const double> piece) {
-  const double clip = settings_.clip_level.value_or(0.0);
-  const bool check_clip = settings_.clip_level.has_value();
+  if (piece.empty()) return;
+  if (settings_.clip_level) {
+    const double clip = *settings_.clip_level;
+    std::size_t clipped = 0;
+    for (double x : piece) clipped += (x >= clip) | (x <= -clip);
+    clipped_samples_ += clipped;
+  }
+  // A live sensor never repeats a sample: check that first with a loop that vectorizes, and walk
+  // the runs one sample at a time only when some neighbours are equal.
+  bool any_repeat = piece[0] == previous_sample_;
+  for (std::size_t i = 1; i < piece.size(); ++i) any_repeat |= piece[i] == piece[i - 1];
+  if (!any_repeat) {
+    identical_run_ = 1;
+    previous_sample_ = piece.back();
+    if (longest_identical_run_ < 1) longest_identical_run_ = 1;
+    return;
+  }
   for (double x : piece) {
     if (x == previous_sample_) {
       ++identical_run_;
@@ -170,7 +185,6 @@ void ChannelPipeline::CountSensorFacts(std::span<const double> piece) {
       previous_sample_ = x;
     }
     if (identical_run_ > longest_identical_run_) longest_identical_run_ = identical_run_;
-    if (check_clip && (x >= clip || x <= -clip)) ++clipped_samples_;
   }
 }
 

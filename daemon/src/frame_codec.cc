@@ -249,7 +249,7 @@ FrameResult DecodeWholeFrame(std::span<const std::uint8_t> frame, std::vector<do
     }
   }
   out.samples = std::move(storage);
-  out.samples.resize(count);
+  out.samples.resize(count);  // a recycled buffer of the same size is not zero-filled again
   double* const samples = out.samples.data();
   switch (format) {
     case SampleFormat::kInt16:

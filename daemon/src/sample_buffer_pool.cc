@@ -15,7 +15,6 @@ std::vector<double> SampleBufferPool::Take() {
     buffers_.pop_back();
     kept_samples_ -= buffer.capacity();
   }
-  buffer.clear();
   return buffer;
 }
 

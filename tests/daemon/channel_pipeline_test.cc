@@ -279,6 +279,33 @@ TEST(ChannelPipeline, WrongRateAndNonFiniteBlocksAreRejectedAndCounted) {
   EXPECT_EQ(counters.sequence_gaps.load(), 0u);
 }
 
+TEST(ChannelPipeline, CountsTheLongestRepeatAndTheClippedSamplesAcrossBlocks) {
+  // A signal built so the answer can be counted by hand: a 50 Hz sine (no two neighbours equal at
+  // 2560 Hz: sin(2 pi 50 n / 2560) repeats only every 256 samples), then a dead stretch of 300
+  // samples stuck at 0.25 (a flatlined channel) straddling block boundaries, and 7 single samples
+  // at +-2.0 beyond the clip level 1.5, none next to another. Expected: the longest run of
+  // identical samples is 300, and 7 samples are clipped.
+  PointSettings settings = Settings();
+  settings.clip_level = 1.5;
+  auto sink = std::make_shared<CollectingSink>();
+  auto pipeline = Make(settings, sink);
+  ASSERT_TRUE(pipeline);
+  std::vector<double> x(kSamples);
+  for (std::size_t n = 0; n < x.size(); ++n) x[n] = std::sin(2.0 * M_PI * 50.0 * static_cast<double>(n) / kRate);
+  for (std::size_t n = 1000; n < 1300; ++n) x[n] = 0.25;
+  for (std::size_t n : {100, 400, 1500, 2000, 2500, 3000, 4000}) x[n] = n % 200 ? 2.0 : -2.0;
+  std::uint64_t sequence = 0;
+  Feed(*pipeline, x, kStartNs, {97, 13, 256}, sequence);
+  pipeline->Flush();
+  std::size_t longest = 0, clipped = 0;
+  for (const auto& record : sink->Records()) {
+    longest = std::max<std::size_t>(longest, record.longest_identical_run);
+    clipped += record.clipped_samples;
+  }
+  EXPECT_EQ(longest, 300u);
+  EXPECT_EQ(clipped, 7u);
+}
+
 TEST(ChannelPipeline, VoltsAreDividedBySensitivity) {
   // "100 mV/g": the accelerometer puts out 100 mV per g, so 0.1 V is 1 g (the usual IEPE
   // datasheet convention: sensitivity = output voltage per unit of acceleration).

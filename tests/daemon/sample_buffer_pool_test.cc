@@ -1,4 +1,4 @@
-// SampleBufferPool: a buffer given back is handed out again empty with its memory; the pool never
+// SampleBufferPool: a buffer given back is handed out again with its memory; the pool never
 // keeps more than its bound (its own contract: these checks have no outside source); and it is
 // safe to use from a source thread and a worker thread at once (the TSan build runs this too).
 #include "spinward/daemon/sample_buffer_pool.h"
@@ -10,7 +10,7 @@
 namespace spinward::daemon {
 namespace {
 
-TEST(SampleBufferPool, HandsBackTheSameMemoryEmptied) {
+TEST(SampleBufferPool, HandsBackTheSameMemory) {
   SampleBufferPool pool(1 << 16);
   EXPECT_EQ(pool.Take().capacity(), 0u) << "an empty pool gives a plain empty vector";
   std::vector<double> buffer(2560, 1.5);
@@ -18,7 +18,7 @@ TEST(SampleBufferPool, HandsBackTheSameMemoryEmptied) {
   pool.Give(std::move(buffer));
   EXPECT_EQ(pool.kept(), 1u);
   std::vector<double> again = pool.Take();
-  EXPECT_TRUE(again.empty());
+  EXPECT_EQ(again.size(), 2560u);  // as given back: the taker overwrites it
   EXPECT_EQ(again.data(), memory);
   EXPECT_EQ(pool.kept(), 0u);
   EXPECT_EQ(pool.kept_samples(), 0u);
@@ -44,7 +44,6 @@ TEST(SampleBufferPool, OneThreadGivesWhileAnotherTakes) {
   std::size_t reused = 0;
   for (int i = 0; i < 2000; ++i) {
     std::vector<double> buffer = pool.Take();
-    EXPECT_TRUE(buffer.empty());
     if (buffer.capacity() > 0) ++reused;
   }
   worker.join();

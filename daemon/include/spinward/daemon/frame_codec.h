@@ -98,7 +98,8 @@ Result<std::vector<std::uint8_t>> EncodeFrame(const FrameMetadata& metadata,
 
 // Decodes `bytes`, which must hold exactly one frame (a UDP datagram): fewer bytes than declared is
 // kTruncated, more is kBadLength. Checks run in the order of docs/protocol.md, "Receiver checks".
-// The samples are decoded into `storage` (its capacity reused; see SampleBufferPool).
+// The samples are decoded into `storage` (resized and overwritten; its memory reused, see
+// SampleBufferPool).
 FrameResult DecodeFrame(std::span<const std::uint8_t> bytes, const DecodeLimits& limits = {},
                         std::vector<double> storage = {});
 

@@ -60,7 +60,8 @@ class PointRouter {
   Result<ReloadSummary> Configure(const std::vector<PointSettings>& points);
 
   OfferResult Offer(SampleBlock&& block);
-  // A processed block's sample buffer, emptied, for a source to decode into (else an empty one).
+  // A processed block's sample buffer (old samples left in it) for a source to resize and decode
+  // into, else an empty vector.
   std::vector<double> SpareSampleBuffer();
   bool KnowsSensor(const std::string& sensor_id) const;
 

@@ -18,7 +18,9 @@ class SampleBufferPool {
   // The default, 2^22 samples (32 MiB), keeps about 1,600 frames of 0.1 s at 25.6 kHz.
   explicit SampleBufferPool(std::size_t max_samples = std::size_t{1} << 22);
 
-  // An empty vector, with the capacity of a recycled buffer when one is kept.
+  // A recycled buffer as it was given back (its size and samples left over from the block it
+  // held: the taker overwrites them; keeping the size spares zero-filling it again), or an empty
+  // vector when none is kept.
   std::vector<double> Take();
   // Keeps `buffer`'s memory for a later Take, unless that would exceed the bound.
   void Give(std::vector<double>&& buffer);

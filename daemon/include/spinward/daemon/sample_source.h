@@ -17,8 +17,9 @@ class BlockConsumer {
  public:
   virtual ~BlockConsumer() = default;
   virtual OfferResult Offer(SampleBlock&& block) = 0;
-  // An empty vector to decode the next block's samples into: a buffer of a block already
-  // processed, when the consumer recycles them, so its memory is reused.
+  // A vector to decode the next block's samples into, resized and overwritten by the caller: a
+  // buffer of a block already processed (old samples still in it) when the consumer recycles
+  // them, so its memory is reused; else an empty vector.
   virtual std::vector<double> SpareSampleBuffer() { return {}; }
 };
 
