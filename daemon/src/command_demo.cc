@@ -243,15 +243,23 @@ int CommandDemo(const Arguments& args) {
   std::printf("  database    %s\n", d.c_str());
   std::printf("  records     %s (one JSON line per point and interval)\n\n",
               records_path.string().c_str());
+  // The commands below name this binary as it can be run from here (it is not on PATH after a
+  // build in the source tree).
+  std::error_code no_path;
+  const fs::path self = fs::read_symlink("/proc/self/exe", no_path);
+  const std::string p = no_path ? std::string("spinward") : self.string();
+  const std::string site = (dir / "larkfield-site.yaml").string();
+  const std::string review = (dir / "review.html").string();
   std::printf("Look further:\n");
-  std::printf("  spinward status --db %s\n", d.c_str());
-  std::printf("  spinward alarms --db %s\n", d.c_str());
-  std::printf(
-      "  spinward trend --db %s --point P101-DE-H --band velocity --since 48h --level hourly\n",
-      d.c_str());
-  std::printf(
-      "  spinward ack P101-DE-H --db %s --by \"your name\" --note \"inspection planned\"\n\n",
-      d.c_str());
+  std::printf("  %s report --db %s --config %s --since 24h --out %s\n", p.c_str(), d.c_str(),
+              site.c_str(), review.c_str());
+  std::printf("      (the morning review: open the HTML file in a browser)\n");
+  std::printf("  %s status --db %s\n", p.c_str(), d.c_str());
+  std::printf("  %s alarms --db %s\n", p.c_str(), d.c_str());
+  std::printf("  %s trend --db %s --point P101-DE-H --band velocity --since 48h --level hourly\n",
+              p.c_str(), d.c_str());
+  std::printf("  %s ack P101-DE-H --db %s --by \"your name\" --note \"inspection planned\"\n\n",
+              p.c_str(), d.c_str());
   std::printf(
       "Advisory only: Spinward is not a protection system; its alarms support, and never replace, "
       "the\n"

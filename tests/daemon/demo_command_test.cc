@@ -76,6 +76,15 @@ TEST(Demo, DayEndsWithP101AlarmsRecordsAndCloseUp) {
   char ball_pass[64];
   std::snprintf(ball_pass, sizeof ball_pass, "outer-race ball pass %.1f Hz", bpfo);
   EXPECT_NE(demo.output.find(ball_pass), std::string::npos) << demo.output;
+
+  // The report command the demo prints runs as printed (the binary named by its full path, since
+  // a build in the source tree does not put it on PATH) and writes the morning review.
+  const auto at = demo.output.find(fs::canonical(SpinwardBinary()).string() + " report ");
+  ASSERT_NE(at, std::string::npos) << demo.output;
+  const std::string printed_report = demo.output.substr(at, demo.output.find('\n', at) - at);
+  const CommandResult report = RunCommand(printed_report);
+  ASSERT_EQ(report.exit_code, 0) << printed_report << "\n" << report.error_output;
+  EXPECT_TRUE(fs::exists(dir / "review.html")) << printed_report;
 }
 
 TEST(Demo, BadOptionIsOneLine) {
