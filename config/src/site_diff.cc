@@ -83,6 +83,7 @@ bool Same(const MessagingConfig& a, const MessagingConfig& b) {
          a.keepalive_s == b.keepalive_s && a.username == b.username &&
          a.password_file == b.password_file && same_tls(a.tls, b.tls) &&
          a.reconnect_min_s == b.reconnect_min_s && a.reconnect_max_s == b.reconnect_max_s &&
+         a.sent_retention_h == b.sent_retention_h &&
          a.band_values.enabled == b.band_values.enabled &&
          a.band_values.every_intervals == b.band_values.every_intervals &&
          a.band_values.qos == b.band_values.qos && same_hook(a.command_hook, b.command_hook);

@@ -64,7 +64,7 @@ constexpr std::array<std::string_view, 4> kRetentionKeys{"raw_days", "hourly_day
 constexpr double kMaxSeconds = 86400.0 * kMaxRetentionDays;
 constexpr std::array<std::string_view, 2> kLoggingKeys{"level", "file"};
 constexpr std::array<std::string_view, 3> kHealthKeys{"enabled", "address", "port"};
-constexpr std::array<std::string_view, 13> kMessagingKeys{"host",
+constexpr std::array<std::string_view, 14> kMessagingKeys{"host",
                                                           "port",
                                                           "client_id",
                                                           "protocol",
@@ -75,6 +75,7 @@ constexpr std::array<std::string_view, 13> kMessagingKeys{"host",
                                                           "tls",
                                                           "reconnect_min_s",
                                                           "reconnect_max_s",
+                                                          "sent_retention_h",
                                                           "band_values",
                                                           "command_hook"};
 constexpr std::array<std::string_view, 3> kTlsKeys{"ca_file", "cert_file", "key_file"};
@@ -957,6 +958,15 @@ class SiteLoader {
       messaging.Report("reconnect_max_s", "must be at least reconnect_min_s (" +
                                               FormatNumber(config.reconnect_min_s) + "), got " +
                                               FormatNumber(config.reconnect_max_s));
+    }
+    if (double hours = 0.0; messaging.ReadNumber("sent_retention_h", hours, Need::kOptional)) {
+      if (!(hours > 0.0) || hours > 24.0 * kMaxRetentionDays) {
+        messaging.Report("sent_retention_h", "must be above 0 and at most " +
+                                                 std::to_string(24 * kMaxRetentionDays) +
+                                                 " hours, got " + FormatNumber(hours));
+      } else {
+        config.sent_retention_h = hours;
+      }
     }
     if (const YAML::Node* bands_node = messaging.Find("band_values")) {
       MapReader bands(problems_, *bands_node, "messaging.band_values", kBandValueKeys);

@@ -8,6 +8,7 @@
 #include <cstdio>
 #include <ctime>
 #include <fstream>
+#include <memory>
 
 #include "commands.h"
 #include "daemon_logging.h"
@@ -19,6 +20,7 @@
 #include "spinward/config/site_loader.h"
 #include "spinward/daemon/json_lines_sink.h"
 #include "spinward/daemon/monitoring_service.h"
+#include "spinward/daemon/outbox_notifier.h"
 #include "trend_backend.h"
 
 namespace spinward::daemon {
@@ -120,7 +122,10 @@ int CommandRun(const Arguments& args) {
   }
 
   // Trend storage and alarms: a database that is corrupt or from a newer version stops the start.
-  auto backend = TrendBackend::Open(loaded.site, LogLine);
+  // The writer tells the MQTT publisher of committed alarms through `outbox`, so they need not
+  // wait for its outbox poll.
+  auto outbox = std::make_shared<OutboxNotifier>();
+  auto backend = TrendBackend::Open(loaded.site, LogLine, outbox);
   if (!backend.ok()) {
     LogLine("error", "cannot start: " + backend.message());
     return 1;
@@ -128,7 +133,7 @@ int CommandRun(const Arguments& args) {
   sinks->Add((*backend)->Sink());
   LogLine("info", "trends and alarms in " + (*backend)->path());
   // Messaging and the health endpoint (docs/messaging.md, docs/health.md).
-  auto outlets = RunOutlets::Start(loaded.site, LogLine);
+  auto outlets = RunOutlets::Start(loaded.site, LogLine, outbox);
   if (!outlets.ok()) {
     LogLine("error", "cannot start: " + outlets.message());
     return 1;

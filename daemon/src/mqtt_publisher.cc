@@ -81,6 +81,7 @@ struct MqttPublisher::Impl {
   std::string last_attempted;                               // event id of the last alarm published
   std::map<std::string, std::string> published_state_keys;  // point -> what its state said
   Clock::time_point last_state_pass{};
+  Clock::time_point next_prune{};  // the first pass prunes
   std::string last_store_error;
 
   mutable std::mutex mutex;  // guards everything below
@@ -225,6 +226,22 @@ struct MqttPublisher::Impl {
     }
   }
 
+  // Deletes one bounded batch of sent rows past the retention, not more often than prune_every
+  // unless the last batch was full. Needs no broker.
+  void PruneSent() {
+    if (Clock::now() < next_prune) return;
+    const auto retention_ns = static_cast<std::int64_t>(config.sent_retention_h * 3.6e12);
+    auto pruned = store->PruneSentOutbox(Now() - retention_ns, options.prune_batch_rows);
+    if (!pruned.ok()) {
+      next_prune = Clock::now() + options.prune_every;
+      return StoreFailure(pruned.message());
+    }
+    next_prune = *pruned >= options.prune_batch_rows ? Clock::time_point{}
+                                                     : Clock::now() + options.prune_every;
+    std::lock_guard lock(mutex);
+    counters.outbox_pruned += static_cast<std::uint64_t>(*pruned);
+  }
+
   void CountPending() {
     auto pending = store->OutboxAfter(0, true, 100000);
     if (!pending.ok()) return;
@@ -250,6 +267,7 @@ struct MqttPublisher::Impl {
     }
     RunHooks();
     if (is_connected) PumpOutbox();
+    if (!final_pass) PruneSent();
     if (fresh || final_pass || Clock::now() - last_state_pass >= std::chrono::seconds(1)) {
       last_state_pass = Clock::now();
       PassStates(is_connected);
@@ -276,6 +294,9 @@ Result<std::unique_ptr<MqttPublisher>> MqttPublisher::Start(
     const config::SiteConfig& site, std::unique_ptr<MqttTransport> transport, Log log,
     PublisherOptions options) {
   if (!site.messaging) return Error{"messaging: no messaging section in the site configuration"};
+  if (options.prune_batch_rows < 1 || options.prune_every.count() < 0) {
+    return Error{"messaging: prune_batch_rows must be at least 1 and prune_every not negative"};
+  }
   auto impl = std::make_unique<Impl>();
   impl->site = site;
   impl->config = *site.messaging;
@@ -328,6 +349,7 @@ Result<std::unique_ptr<MqttPublisher>> MqttPublisher::Start(
       !s.ok()) {
     return Error{s.message()};
   }
+  if (raw->options.outbox_notifier) raw->options.outbox_notifier->Listen([raw] { raw->Wake(); });
   raw->thread = std::thread([raw] { raw->Run(); });
   return std::unique_ptr<MqttPublisher>(new MqttPublisher(std::move(impl)));
 }
@@ -341,6 +363,8 @@ void MqttPublisher::Stop(std::chrono::milliseconds grace) {
     if (s.stop) return;
     s.stop = true;
   }
+  // From here on no commit can call into this publisher (Listen waits for a running Notify).
+  if (s.options.outbox_notifier) s.options.outbox_notifier->Listen({});
   s.wake.notify_all();
   if (s.thread.joinable()) s.thread.join();
   // The last alarms stored at shutdown: hooks run, and a connected broker gets them.

@@ -101,7 +101,8 @@ struct RunOutlets::Parts {
   std::unique_ptr<HealthServer> health;
 };
 
-Result<std::unique_ptr<RunOutlets>> RunOutlets::Start(const config::SiteConfig& site, Log log) {
+Result<std::unique_ptr<RunOutlets>> RunOutlets::Start(const config::SiteConfig& site, Log log,
+                                                      std::shared_ptr<OutboxNotifier> outbox) {
   std::unique_ptr<RunOutlets> outlets(new RunOutlets());
   outlets->parts_ = std::make_unique<Parts>();
   Parts& p = *outlets->parts_;
@@ -113,7 +114,9 @@ Result<std::unique_ptr<RunOutlets>> RunOutlets::Start(const config::SiteConfig& 
                                       : site.messaging->client_id;
     auto transport = MosquittoTransport::Create(*site.messaging, client_id, log);
     if (!transport.ok()) return Error{transport.message()};
-    auto publisher = MqttPublisher::Start(site, std::move(transport).value(), log);
+    PublisherOptions options;
+    options.outbox_notifier = std::move(outbox);
+    auto publisher = MqttPublisher::Start(site, std::move(transport).value(), log, options);
     if (!publisher.ok()) return Error{publisher.message()};
     p.publisher = std::move(publisher).value();
   }

@@ -16,6 +16,7 @@
 
 #include "spinward/config/site_config.h"
 #include "spinward/daemon/monitoring_service.h"
+#include "spinward/daemon/outbox_notifier.h"
 #include "spinward/daemon/record_sink.h"
 #include "spinward/estimators/result.h"
 #include "trend_backend.h"
@@ -27,8 +28,10 @@ class RunOutlets {
   using Log = std::function<void(const std::string& level, const std::string& message)>;
 
   // Fails only for settings that cannot work at all (an unreadable password file or TLS file); a
-  // broker that cannot be reached is retried in the background.
-  static Result<std::unique_ptr<RunOutlets>> Start(const config::SiteConfig& site, Log log);
+  // broker that cannot be reached is retried in the background. `outbox` (the one given to the
+  // trend backend) wakes the publisher when alarms are committed.
+  static Result<std::unique_ptr<RunOutlets>> Start(const config::SiteConfig& site, Log log,
+                                                   std::shared_ptr<OutboxNotifier> outbox = {});
   ~RunOutlets();
 
   // Band values for messaging; null when none are published.

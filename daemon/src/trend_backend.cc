@@ -14,7 +14,8 @@ class TrendBackend::WriterSubmitter final : public BatchSubmitter {
   storage::TrendWriter& writer_;
 };
 
-Result<std::unique_ptr<TrendBackend>> TrendBackend::Open(const config::SiteConfig& site, Log log) {
+Result<std::unique_ptr<TrendBackend>> TrendBackend::Open(const config::SiteConfig& site, Log log,
+                                                         std::shared_ptr<OutboxNotifier> outbox) {
   std::unique_ptr<TrendBackend> backend(new TrendBackend());
   backend->path_ = site.storage.path;
   backend->log_ = std::move(log);
@@ -31,8 +32,10 @@ Result<std::unique_ptr<TrendBackend>> TrendBackend::Open(const config::SiteConfi
   if (!acks.ok()) return Error{acks.message()};
 
   auto* raw = backend.get();
+  storage::WriterOptions writer_options;
+  if (outbox) writer_options.on_events_committed = [outbox] { outbox->Notify(); };
   auto writer =
-      storage::TrendWriter::Start(std::move(store).value(), storage::WriterOptions{},
+      storage::TrendWriter::Start(std::move(store).value(), std::move(writer_options),
                                   [raw](storage::LogLevel level, const std::string& message) {
                                     if (!raw->log_) return;
                                     raw->log_(level == storage::LogLevel::kError     ? "error"

@@ -13,6 +13,7 @@
 
 #include "spinward/config/site_config.h"
 #include "spinward/daemon/alarm_stage.h"
+#include "spinward/daemon/outbox_notifier.h"
 #include "spinward/estimators/result.h"
 #include "spinward/storage/trend_store.h"
 #include "spinward/storage/trend_writer.h"
@@ -25,7 +26,9 @@ class TrendBackend {
 
   // Opens (or creates and migrates) the site's database, restores alarm states, starts the writer.
   // A database that is corrupt or newer is refused here, with its path and the reason.
-  static Result<std::unique_ptr<TrendBackend>> Open(const config::SiteConfig& site, Log log);
+  // `outbox`, when given, is notified after each commit that put alarm events in the outbox.
+  static Result<std::unique_ptr<TrendBackend>> Open(const config::SiteConfig& site, Log log,
+                                                    std::shared_ptr<OutboxNotifier> outbox = {});
   ~TrendBackend();
 
   std::shared_ptr<RecordSink> Sink() const { return stage_; }

@@ -850,4 +850,21 @@ Status TrendStore::MarkOutboxSent(const std::string& event_id, std::int64_t sent
   return Status::Ok();
 }
 
+Result<int> TrendStore::PruneSentOutbox(std::int64_t sent_before_ns, int max_rows) {
+  Impl& s = *impl_;
+  // The outbox is walked in seq order, the order rows are sent in, so the old sent rows are
+  // found first; the newest row stays so that the next insert cannot reuse its seq.
+  auto stmt = s.db.Prepare(
+      "DELETE FROM outbox WHERE outbox_pk IN (SELECT outbox_pk FROM outbox "
+      "WHERE sent_ns IS NOT NULL AND sent_ns < ?1 "
+      "AND outbox_pk < (SELECT MAX(outbox_pk) FROM outbox) ORDER BY outbox_pk LIMIT ?2)");
+  if (!stmt) return stmt.status();
+  stmt->Bind(1, sent_before_ns);
+  stmt->Bind(2, static_cast<std::int64_t>(max_rows));
+  if (stmt->Step() != SQLITE_DONE) {
+    return Error{"pruning sent outbox rows in '" + s.path + "': " + s.db.ErrorMessage()};
+  }
+  return static_cast<int>(s.db.Changes());
+}
+
 }  // namespace spinward::storage

@@ -190,6 +190,9 @@ void TrendWriter::Shared::Run() {
         for (const auto& r : merged.records) committed.push_back({r.point_id, r.interval_start_ns});
         on_commit(committed);
       }
+      if (outcome.status.ok() && outcome.events_written > 0 && options.on_events_committed) {
+        options.on_events_committed();
+      }
 
       std::vector<std::string> messages;
       lock.lock();

@@ -60,6 +60,7 @@ messaging:
   tls: {ca_file: /etc/spinward/ca.pem, cert_file: /etc/spinward/client.pem, key_file: /etc/spinward/client.key}
   reconnect_min_s: 2
   reconnect_max_s: 120
+  sent_retention_h: 168
   band_values: {every_intervals: 5, qos: 1}
   command_hook:
     program: /usr/local/bin/larkfield-sms
@@ -85,6 +86,7 @@ messaging:
   EXPECT_EQ(m.tls->key_file, "/etc/spinward/client.key");
   EXPECT_EQ(m.reconnect_min_s, 2.0);
   EXPECT_EQ(m.reconnect_max_s, 120.0);
+  EXPECT_EQ(m.sent_retention_h, 168.0);
   EXPECT_TRUE(m.band_values.enabled);  // the section given turns it on
   EXPECT_EQ(m.band_values.every_intervals, 5);
   EXPECT_EQ(m.band_values.qos, 1);
@@ -105,6 +107,7 @@ TEST(MessagingConfig, MessagingDefaults) {
   EXPECT_FALSE(m.tls.has_value());
   EXPECT_FALSE(m.band_values.enabled);
   EXPECT_FALSE(m.command_hook.has_value());
+  EXPECT_EQ(m.sent_retention_h, 72.0);  // three days of delivery record: our choice, no source
 }
 
 struct BadCase {
@@ -129,6 +132,14 @@ const BadCase kBadCases[] = {
     {"messaging:\n  host: b\n  keepalive_s: 2\n", 19, 16, "messaging.keepalive_s", "5 to 65535"},
     {"messaging:\n  host: b\n  reconnect_min_s: 30\n  reconnect_max_s: 10\n", 20, 20,
      "messaging.reconnect_max_s", "at least reconnect_min_s"},
+    {"messaging:\n  host: b\n  sent_retention_h: 0\n", 19, 21, "messaging.sent_retention_h",
+     "above 0"},
+    {"messaging:\n  host: b\n  sent_retention_h: -24\n", 19, 21, "messaging.sent_retention_h",
+     "above 0"},
+    {"messaging:\n  host: b\n  sent_retention_h: a week\n", 19, 21, "messaging.sent_retention_h",
+     ""},
+    {"messaging:\n  host: b\n  sent_retention: 24\n", 19, 3, "messaging.sent_retention",
+     "did you mean 'sent_retention_h'?"},
     {"messaging:\n  host: b\n  tls: {cert_file: /c.pem}\n", 19, 8, "messaging.tls.ca_file",
      "missing"},
     {"messaging:\n  host: b\n  tls: {ca_file: /ca.pem, cert_file: /c.pem}\n", 19, 8,

@@ -10,7 +10,9 @@
 #include <mutex>
 
 #include "daemon/wait_until.h"
+#include "spinward/daemon/outbox_notifier.h"
 #include "spinward/storage/trend_store.h"
+#include "spinward/storage/trend_writer.h"
 #include "support/test_paths.h"
 
 namespace spinward::daemon {
@@ -207,6 +209,148 @@ TEST(MqttPublisher, AlarmsLeaveTheOutboxInOrderOnlyAfterTheirAcknowledgement) {
   std::lock_guard lock(shared->mutex);
   ASSERT_EQ(shared->farewells.size(), 1u);
   EXPECT_NE(shared->farewells[0].payload.find("\"offline\""), std::string::npos);
+}
+
+// Connects the fake transport and waits for the publisher's first pass (its "online" status).
+void ConnectAndWaitOnline(FakeTransport::Shared& shared) {
+  {
+    std::lock_guard lock(shared.mutex);
+    shared.connected = true;
+  }
+  shared.callbacks.on_connected();
+  ASSERT_TRUE(WaitUntil([&] {
+    std::lock_guard lock(shared.mutex);
+    for (const auto& [id, m] : shared.published) {
+      if (m.topic.ends_with("/status") && m.payload.find("\"online\"") != std::string::npos)
+        return true;
+    }
+    return false;
+  }));
+}
+
+TEST(MqttPublisher, ACommitNotificationSendsANewAlarmWithoutWaitingForThePoll) {
+  // docs/performance.md "Alarm latency": the publisher used to find new outbox rows only at its
+  // poll. Here the poll is an hour, so an alarm that arrives within the test's wait was brought by
+  // the trend writer's commit notification, and one written without a notification is not sent.
+  const auto dir = spinward::testing::FreshTempDir("mqtt-publisher-wake");
+  const auto db = dir / "trends.sqlite";
+  const std::int64_t t0 = 1'772'445'600'000'000'000;  // 2026-03-02T10:00:00Z
+  { ASSERT_TRUE(storage::TrendStore::Open(db.string()).ok()); }
+  auto notifier = std::make_shared<OutboxNotifier>();
+  auto shared = std::make_shared<FakeTransport::Shared>();
+  PublisherOptions options;
+  options.poll = std::chrono::hours(1);
+  options.outbox_notifier = notifier;
+  auto publisher =
+      MqttPublisher::Start(Site(db), std::make_unique<FakeTransport>(shared), {}, options);
+  ASSERT_TRUE(publisher.ok()) << publisher.message();
+  ConnectAndWaitOnline(*shared);
+
+  // The daemon's wiring: the writer's commit callback notifies the publisher.
+  auto store = storage::TrendStore::Open(db.string());
+  ASSERT_TRUE(store.ok()) << store.message();
+  storage::WriterOptions writer_options;
+  writer_options.prune_every = std::chrono::milliseconds(0);
+  writer_options.on_events_committed = [notifier] { notifier->Notify(); };
+  auto writer = storage::TrendWriter::Start(std::move(store).value(), writer_options);
+  ASSERT_TRUE(writer.ok()) << writer.message();
+  ASSERT_TRUE((*writer)->Submit(AlarmBatch("ev-1", t0, "normal", "alert")));
+  ASSERT_TRUE(WaitUntil([&] { return Alarms(*shared).size() == 1; }));
+  EXPECT_NE(Alarms(*shared)[0].second.payload.find("ev-1"), std::string::npos);
+  shared->callbacks.on_acknowledged(Alarms(*shared)[0].first);
+  ASSERT_TRUE(WaitUntil([&] { return (*publisher)->Counters().alarms_published == 1; }));
+
+  // Written by another connection with nobody told (as by another process): it waits for the
+  // poll, an hour away.
+  {
+    auto other = storage::TrendStore::Open(db.string());
+    ASSERT_TRUE(other.ok()) << other.message();
+    ASSERT_TRUE(
+        other->Write(AlarmBatch("ev-2", t0 + 1'000'000'000, "alert", "danger")).status.ok());
+  }
+  std::this_thread::sleep_for(std::chrono::milliseconds(300));
+  EXPECT_EQ(Alarms(*shared).size(), 1u);
+  notifier->Notify();
+  ASSERT_TRUE(WaitUntil([&] { return Alarms(*shared).size() == 2; }));
+  EXPECT_NE(Alarms(*shared)[1].second.payload.find("ev-2"), std::string::npos);
+
+  // A stopped publisher no longer listens: a later commit must not reach it (ASan would see a
+  // call into the destroyed publisher).
+  (*writer)->Stop();
+  (*publisher)->Stop(std::chrono::milliseconds(0));
+  publisher->reset();
+  notifier->Notify();
+}
+
+TEST(MqttPublisher, WithoutANotificationThePollStillFindsNewAlarms) {
+  // The fallback: rows written by another process (or with no notifier wired) arrive at the poll.
+  const auto dir = spinward::testing::FreshTempDir("mqtt-publisher-poll");
+  const auto db = dir / "trends.sqlite";
+  const std::int64_t t0 = 1'772'445'600'000'000'000;  // 2026-03-02T10:00:00Z
+  { ASSERT_TRUE(storage::TrendStore::Open(db.string()).ok()); }
+  auto shared = std::make_shared<FakeTransport::Shared>();
+  PublisherOptions options;
+  options.poll = std::chrono::milliseconds(50);
+  auto publisher =
+      MqttPublisher::Start(Site(db), std::make_unique<FakeTransport>(shared), {}, options);
+  ASSERT_TRUE(publisher.ok()) << publisher.message();
+  ConnectAndWaitOnline(*shared);
+  {
+    auto other = storage::TrendStore::Open(db.string());
+    ASSERT_TRUE(other.ok()) << other.message();
+    ASSERT_TRUE(other->Write(AlarmBatch("ev-1", t0, "normal", "alert")).status.ok());
+  }
+  ASSERT_TRUE(WaitUntil([&] { return Alarms(*shared).size() == 1; }));
+  EXPECT_NE(Alarms(*shared)[0].second.payload.find("ev-1"), std::string::npos);
+  (*publisher)->Stop(std::chrono::milliseconds(0));
+}
+
+TEST(MqttPublisher, SentAlarmsPastTheRetentionAreDeletedUnsentOnesStay) {
+  // messaging.sent_retention_h (docs/configuration.md): rows the broker acknowledged more than
+  // that long ago are deleted, a bounded batch per pass; unsent rows stay however old; so do young
+  // sent rows and the newest row (TrendStore::PruneSentOutbox). No broker is needed for it.
+  const auto dir = spinward::testing::FreshTempDir("mqtt-publisher-prune");
+  const auto db = dir / "trends.sqlite";
+  const std::int64_t t0 = 1'772'445'600'000'000'000;  // 2026-03-02T10:00:00Z
+  const std::int64_t hour = 3'600'000'000'000;
+  const std::int64_t now = t0 + 100 * hour;
+  {
+    auto store = storage::TrendStore::Open(db.string());
+    ASSERT_TRUE(store.ok()) << store.message();
+    for (std::int64_t i = 1; i <= 7; ++i) {
+      ASSERT_TRUE(store
+                      ->Write(AlarmBatch("ev-" + std::to_string(i), t0 + i * 1'000'000'000,
+                                         i % 2 ? "normal" : "alert", i % 2 ? "alert" : "normal"))
+                      .status.ok());
+    }
+    for (const char* old : {"ev-1", "ev-2", "ev-4", "ev-5"}) {
+      ASSERT_TRUE(store->MarkOutboxSent(old, t0 + hour).ok());  // 99 h before "now"
+    }
+    // ev-3 was never acknowledged; ev-6 was sent an hour ago; ev-7 (the newest) is unsent.
+    ASSERT_TRUE(store->MarkOutboxSent("ev-6", now - hour).ok());
+  }
+  auto site = Site(db);
+  site.messaging->sent_retention_h = 72.0;
+  auto shared = std::make_shared<FakeTransport::Shared>();  // never connected
+  PublisherOptions options;
+  options.poll = std::chrono::milliseconds(10);
+  options.now_ns = [now] { return now; };
+  options.prune_batch_rows = 3;  // 4 rows to go: two passes
+  auto publisher = MqttPublisher::Start(site, std::make_unique<FakeTransport>(shared), {}, options);
+  ASSERT_TRUE(publisher.ok()) << publisher.message();
+  ASSERT_TRUE(WaitUntil([&] { return (*publisher)->Counters().outbox_pruned == 4; }));
+  (*publisher)->Stop(std::chrono::milliseconds(0));
+  EXPECT_EQ((*publisher)->Counters().outbox_pruned, 4u);
+  auto store = storage::TrendStore::OpenReadOnly(db.string());
+  ASSERT_TRUE(store.ok()) << store.message();
+  auto rows = store->OutboxAfter(0, false, 100);
+  ASSERT_TRUE(rows.ok()) << rows.message();
+  std::vector<std::string> left;
+  for (const auto& r : *rows) left.push_back(r.event_id);
+  EXPECT_EQ(left, (std::vector<std::string>{"ev-3", "ev-6", "ev-7"}));
+  auto pending = store->OutboxAfter(0, true, 100);
+  ASSERT_TRUE(pending.ok());
+  EXPECT_EQ(pending->size(), 2u);  // ev-3 and ev-7, still to be delivered
 }
 
 TEST(MqttPublisher, TopicLevelsCannotContainWildcardsOrSeparators) {

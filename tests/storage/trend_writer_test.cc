@@ -308,5 +308,59 @@ TEST(TrendWriter, RejectsBadOptions) {
   EXPECT_NE(writer.message().find("max_backlog_items 10"), std::string::npos) << writer.message();
 }
 
+TEST(TrendWriter, TellsMessagingAfterACommitThatStoredNewAlarmEvents) {
+  // The MQTT publisher is woken by this call (docs/messaging.md): it must come after a commit that
+  // put an event, and so its outbox row, in the database (docs/storage.md: both in one
+  // transaction), and not for records alone or for an event stored before (a no-op insert).
+  auto path = NewDb("writer-tells");
+  auto store = TrendStore::Open(path.string());
+  ASSERT_TRUE(store.ok());
+  std::mutex mutex;
+  int told = 0;
+  std::int64_t outbox_rows_when_told = -1;
+  WriterOptions options = FastRetry();
+  options.on_events_committed = [&] {
+    RawConnection raw(path);  // what another connection (the publisher's) sees at that moment
+    std::lock_guard lock(mutex);
+    ++told;
+    outbox_rows_when_told = raw.Int("SELECT count(*) FROM outbox");
+  };
+  auto writer = TrendWriter::Start(std::move(*store), options);
+  ASSERT_TRUE(writer.ok());
+  auto told_now = [&] {
+    std::lock_guard lock(mutex);
+    return told;
+  };
+
+  ASSERT_TRUE((*writer)->Submit(WriteBatch{{VelocityRecord(kBaseNs, 2.0)}, {}, {}}));
+  ASSERT_TRUE((*writer)->Flush(60s));
+  EXPECT_EQ(told_now(), 0);
+
+  WriteBatch batch{{VelocityRecord(kBaseNs + kTenMinNs, 2.9)}, {}, {}};
+  AlarmEventRecord event;
+  event.event_id = "lf-9";
+  event.time_ns = kBaseNs + kTenMinNs;
+  event.point_id = "P-101";
+  event.measure = "velocity_rms_10_1000";
+  event.from_state = "normal";
+  event.to_state = "alert";
+  event.value = 2.9;
+  batch.events.push_back(event);
+  ASSERT_TRUE((*writer)->Submit(batch));
+  ASSERT_TRUE((*writer)->Flush(60s));
+  EXPECT_EQ(told_now(), 1);
+  {
+    std::lock_guard lock(mutex);
+    EXPECT_EQ(outbox_rows_when_told, 1);  // committed, visible to other connections
+  }
+
+  // The same event again (a retried submit) stores nothing new: nobody is told.
+  batch.records = {VelocityRecord(kBaseNs + 2 * kTenMinNs, 2.9)};
+  ASSERT_TRUE((*writer)->Submit(batch));
+  ASSERT_TRUE((*writer)->Flush(60s));
+  EXPECT_EQ(told_now(), 1);
+  EXPECT_EQ((*writer)->counters().committed_records, 3u);
+}
+
 }  // namespace
 }  // namespace spinward::storage

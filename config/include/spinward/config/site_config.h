@@ -262,6 +262,8 @@ struct MessagingConfig {
   std::optional<MqttTlsConfig> tls;
   double reconnect_min_s = 1.0;
   double reconnect_max_s = 60.0;
+  // Outbox rows the broker acknowledged are deleted once they were sent this long ago.
+  double sent_retention_h = 72.0;
   BandPublishingConfig band_values;
   std::optional<CommandHookConfig> command_hook;
 };

@@ -9,7 +9,9 @@
 // away they are counted as skipped. The command hook (if configured) runs for every alarm that
 // enters the outbox while the daemon runs, whether or not a broker is reachable.
 // The publisher reads and marks the outbox through a database connection of its own (WAL lets
-// it work beside the trend writer).
+// it work beside the trend writer). It looks at the outbox when an OutboxNotifier says the writer
+// committed alarm events, and every `poll` besides (rows another process wrote, missed wakes).
+// Sent rows older than messaging.sent_retention_h are deleted a bounded batch at a time.
 // Thread-safety: OfferRecord from any thread (worker threads); Counters and PointStates from any
 // thread; Stop from the controlling thread.
 #pragma once
@@ -24,6 +26,7 @@
 
 #include "spinward/config/site_config.h"
 #include "spinward/daemon/mqtt_transport.h"
+#include "spinward/daemon/outbox_notifier.h"
 #include "spinward/daemon/record_sink.h"
 #include "spinward/estimators/result.h"
 #include "spinward/storage/measurement_record.h"
@@ -36,6 +39,7 @@ struct MessagingCounters {
   std::uint64_t alarms_published = 0;    // acknowledged by the broker (PUBACK)
   std::uint64_t alarms_republished = 0;  // published again after a reconnect
   std::uint64_t outbox_pending = 0;      // alarms not yet acknowledged (as of the last check)
+  std::uint64_t outbox_pruned = 0;       // sent rows deleted after messaging.sent_retention_h
   std::uint64_t states_published = 0;
   std::uint64_t band_messages_published = 0;
   std::uint64_t band_messages_skipped = 0;  // due while not connected
@@ -46,6 +50,13 @@ struct MessagingCounters {
 
 struct PublisherOptions {
   std::chrono::milliseconds poll{250};  // outbox and state checks when nothing wakes it earlier
+  // Wakes the publisher when the trend writer has committed alarm events; null: the poll finds
+  // them. The publisher listens from Start to Stop.
+  std::shared_ptr<OutboxNotifier> outbox_notifier;
+  // Sent rows past their retention: at most prune_batch_rows per pass, a pass every prune_every
+  // (at the next poll or wake while a full batch went, so a backlog drains in steps).
+  std::chrono::milliseconds prune_every{60000};
+  int prune_batch_rows = 500;
   // Wall clock (UTC ns) for status and state times; null: the system clock.
   std::function<std::int64_t()> now_ns;
 };

@@ -178,6 +178,11 @@ class TrendStore {
   // Marks an event delivered (the broker acknowledged it). Fails when the event is not in the
   // outbox; marking it again keeps the first time.
   Status MarkOutboxSent(const std::string& event_id, std::int64_t sent_ns);
+  // Deletes up to `max_rows` outbox rows marked sent before `sent_before_ns`, oldest first, and
+  // returns how many went. Unsent rows are never deleted, nor the newest row (so a seq is never
+  // handed out twice: SQLite gives a new row the highest rowid plus one). The alarm_events rows
+  // stay.
+  Result<int> PruneSentOutbox(std::int64_t sent_before_ns, int max_rows);
   // EXPLAIN QUERY PLAN of the statement Trend() runs for `level`, one detail line per row.
   Result<std::vector<std::string>> ExplainTrendQuery(TrendLevel level);
 

@@ -40,6 +40,9 @@ struct WriterOptions {
   std::chrono::milliseconds retry_max{30000};
   std::chrono::milliseconds prune_every{60000};  // 0: the writer never prunes
   std::function<std::int64_t()> now_ns;          // wall clock for retention; null: system clock
+  // Called on the writer thread after each commit that stored new alarm events (and with them
+  // their outbox rows), so messaging can send them at once; must be quick. Null: nobody is told.
+  std::function<void()> on_events_committed;
 
   Status Validate() const;
 };
