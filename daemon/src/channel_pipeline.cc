@@ -246,12 +246,20 @@ ChannelPipeline::Outcome ChannelPipeline::Process(const SampleBlock& block) {
     outcome.restarted = true;
     outcome.message = "restarted after a rejected block";
     Restart(block);
-  } else if (block.has_sequence && block.sequence != last_sequence_ + 1) {
+  } else if (block.has_sequence && block.sequence > last_sequence_ + 1) {
     counters_.sequence_gaps++;
     ++interval_gaps_;
     outcome.restarted = true;
     outcome.message = "sequence gap: expected " + std::to_string(last_sequence_ + 1) + ", got " +
                       std::to_string(block.sequence);
+    Restart(block);
+  } else if (block.has_sequence && block.sequence <= last_sequence_) {
+    // A sender that counts again (a box reconnecting starts at 0), a duplicate or a reordered
+    // frame: no frame is known lost (docs/protocol.md), so no gap is counted for the sensor's
+    // dropout check; the segmenting still restarts, as the samples may repeat ones already used.
+    outcome.restarted = true;
+    outcome.message = "sequence restart: expected " + std::to_string(last_sequence_ + 1) +
+                      ", got " + std::to_string(block.sequence);
     Restart(block);
   } else {
     const std::int64_t expected = TimeOfRunSample(run_samples_);

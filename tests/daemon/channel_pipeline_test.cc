@@ -184,10 +184,71 @@ TEST(ChannelPipeline, RepeatedSequenceNumberAlsoRestarts) {
   block.samples = b;
   auto outcome = pipeline->Process(block);
   EXPECT_TRUE(outcome.restarted);
-  EXPECT_NE(outcome.message.find("sequence gap"), std::string::npos) << outcome.message;
+  EXPECT_NE(outcome.message.find("sequence restart"), std::string::npos) << outcome.message;
   pipeline->Flush();
   ExpectRecordsMatch(sink->Records(),
                      ExpectedRecords({{a, kStartNs}, {b, b_start}}, Settings(), true));
+}
+
+TEST(ChannelPipeline, SenderCountingAgainMidIntervalEndsItWithEverySampleAndNoGap) {
+  // A box that reconnects starts its frame count at 0 again while its signal time runs on
+  // (tests/reliability/soak.py feeds a daemon so). docs/protocol.md: s <= last resets the overlap
+  // buffer, and only s > last + 1 means frames were lost. Segments (the scipy.signal.welch count,
+  // docs/estimator.md): A = 256 + 14 x 128 + 50 samples gives floor((N - 256) / 128) + 1 = 15 =
+  // one average of 10 and 5 over; B = 256 + 11 x 128 gives 12 = one average and 2 over.
+  const auto a = TestSignal(256 + 14 * 128 + 50, kRate, 21);
+  const auto b = TestSignal(256 + 11 * 128, kRate, 22);
+  const std::int64_t b_start = TimeOf(kStartNs, a.size());  // no sample missing in between
+  for (std::size_t size : {100u, 333u}) {
+    SCOPED_TRACE("block size " + std::to_string(size));
+    auto sink = std::make_shared<CollectingSink>();
+    auto pipeline = Make(Settings(), sink);
+    std::uint64_t sequence = 0;
+    Feed(*pipeline, a, kStartNs, {size}, sequence);
+    sequence = 0;  // the new connection counts from 0
+    Feed(*pipeline, b, b_start, {size}, sequence);
+    pipeline->Flush();
+    const auto records = sink->Records();
+    ExpectRecordsMatch(records, ExpectedRecords({{a, kStartNs}, {b, b_start}}, Settings(), true));
+    ASSERT_EQ(records.size(), 4u);
+    // The interval the reconnect cut short is stored with the segments it has, its samples
+    // running to A's last one (the 50 that completed no segment included).
+    EXPECT_EQ(records[1].segment_count, 5u);
+    EXPECT_EQ(records[1].interval_end_ns, b_start);
+    EXPECT_EQ(records[3].segment_count, 2u);
+    std::size_t samples = 0;
+    for (std::size_t r = 0; r < records.size(); ++r) {
+      samples += records[r].indicators.count;
+      if (r > 0) {
+        EXPECT_EQ(records[r].interval_start_ns, records[r - 1].interval_end_ns);
+      }
+      // Nothing was lost: no record carries a gap into the sensor's dropout check.
+      EXPECT_EQ(records[r].sequence_gaps, 0u) << "record " << r;
+    }
+    EXPECT_EQ(samples, a.size() + b.size());
+    EXPECT_EQ(pipeline->counters().sequence_gaps.load(), 0u);
+    EXPECT_EQ(pipeline->counters().segments.load(), 27u);
+  }
+}
+
+TEST(ChannelPipeline, LostFramesMarkTheIntervalTheyEnd) {
+  // The counterpart: s > last + 1 is a loss, counted once and carried by the record it ends.
+  const auto a = TestSignal(1000, kRate, 23);
+  const auto b = TestSignal(3000, kRate, 24);
+  const std::int64_t b_start = TimeOf(kStartNs, 1000 + 2 * 100);  // two frames of 100 lost
+  auto sink = std::make_shared<CollectingSink>();
+  auto pipeline = Make(Settings(), sink);
+  std::uint64_t sequence = 0;
+  Feed(*pipeline, a, kStartNs, {100}, sequence);
+  sequence += 2;
+  Feed(*pipeline, b, b_start, {100}, sequence);
+  pipeline->Flush();
+  const auto records = sink->Records();
+  ASSERT_EQ(records.size(), 4u);  // A: 6 segments; B: 22 = 10 + 10 + 2
+  EXPECT_EQ(records[0].segment_count, 6u);
+  EXPECT_EQ(records[0].sequence_gaps, 1u);
+  EXPECT_EQ(records[1].sequence_gaps, 0u);
+  EXPECT_EQ(pipeline->counters().sequence_gaps.load(), 1u);
 }
 
 TEST(ChannelPipeline, TimeJumpRestartsButJitterBelowToleranceDoesNot) {

@@ -238,6 +238,58 @@ TEST(RunCommand, SigtermFlushesThePartialInterval) {
   EXPECT_LE(NumberField(records[2], "segments"), 5.0);
 }
 
+TEST(RunCommand, AFeedThatReconnectsIsStoredWholeWithoutADropout) {
+  // tests/reliability/soak.py's pattern: a second `spinward feed` is a new TCP connection whose
+  // frames count from 0 again (docs/protocol.md: a restarted sender) while its signal time runs on
+  // from the first. Feed 1 (1 s): N = 25600, K = 39 = 2 x 17 + 5, so the reconnect ends an
+  // interval of 5 segments; feed 2 (3 s): K = 119 = 7 x 17, nothing left for SIGTERM to flush.
+  const fs::path dir = spinward::testing::FreshTempDir("run-reconnect");
+  Daemon daemon(dir, TestDataDir() / "daemon" / "reconnect_site.yaml");
+  ASSERT_TRUE(daemon.WaitReady()) << daemon.Log();
+  constexpr std::int64_t kStartNs = 1'796'104'800'000'000'000;  // 2026-12-01T06:00:00Z (date -u)
+  constexpr std::int64_t kSecond = 1'000'000'000;
+  ASSERT_EQ(Feed(daemon.tcp_port(), "--seconds 1 --start-ns " + std::to_string(kStartNs)).exit_code,
+            0);
+  ASSERT_EQ(Feed(daemon.tcp_port(), "--seconds 3 --start-ns " + std::to_string(kStartNs + kSecond))
+                .exit_code,
+            0);
+  ASSERT_TRUE(daemon.WaitLog("record P101-DE-H segments 17", 9)) << daemon.Log();
+  daemon.Signal(SIGTERM);
+  EXPECT_EQ(daemon.WaitExit(), 0) << daemon.Log();
+
+  // Every sample fed is in exactly one record, and the records tile the 4 s of signal time.
+  const auto records = daemon.Records();
+  ASSERT_EQ(records.size(), 10u) << daemon.Log();
+  const std::vector<double> segments = {17, 17, 5, 17, 17, 17, 17, 17, 17, 17};
+  std::int64_t previous_end = kStartNs;
+  double samples = 0;
+  for (std::size_t r = 0; r < records.size(); ++r) {
+    SCOPED_TRACE("record " + std::to_string(r));
+    EXPECT_EQ(NumberField(records[r], "segments"), segments[r]);
+    EXPECT_EQ(IntegerField(records[r], "start_ns"), previous_end);
+    previous_end = IntegerField(records[r], "end_ns");
+    samples += NumberField(records[r], "samples");
+  }
+  EXPECT_EQ(IntegerField(records[2], "end_ns"), kStartNs + kSecond);  // ended at the reconnect
+  EXPECT_EQ(previous_end, kStartNs + 4 * kSecond);
+  EXPECT_EQ(samples, 4 * 25600.0);
+
+  // The stored trend holds the 10 intervals, none flagged: no frame was lost, so no dropout
+  // sensor fault (which would hold the machine's alarms off and keep the value out of roll-ups).
+  EXPECT_EQ(daemon.Log().find("sensor_fault"), std::string::npos) << daemon.Log();
+  const auto trend = spinward::testing::RunCommand(
+      SpinwardBinary().string() + " trend --db " + (dir / "trends.sqlite").string() +
+      " --point P101-DE-H --band velocity --since 2026-12-01T05:00Z --until 2026-12-01T07:00Z");
+  ASSERT_EQ(trend.exit_code, 0) << trend.output;
+  const auto rows = Lines(trend.output);
+  ASSERT_EQ(rows.size(), 11u) << trend.output;  // header + 10 rows
+  ASSERT_EQ(rows[0], "start_utc,end_utc,value,min,max,count,sensor_fault_count,unit");
+  for (std::size_t r = 1; r < rows.size(); ++r) {
+    // A raw row counts its one interval as a value (1) or as a sensor fault (0,1).
+    EXPECT_NE(rows[r].find(",1,0,mm/s"), std::string::npos) << rows[r];
+  }
+}
+
 TEST(RunCommand, SighupReloadsAChangedBandAndRefusesABrokenFile) {
   const fs::path dir = spinward::testing::FreshTempDir("run-reload");
   const fs::path config = dir / "site.yaml";

@@ -11,14 +11,24 @@ descriptors (/proc/PID/fd). After a warm-up (the first quarter of the run: cache
 cache and the WAL reach their working size) it fits a straight line to each series and prints the
 growth over the rest of the run, with the plant time processed.
 
+It also checks that no signal is lost on the way: every sample fed must end up in a stored record.
+Records per feed follow docs/records.md: with segment L = 4096, hop H = 2048 and S = round(1 s x
+25600 / 2048) = 13 segments per average (an interval is 13 x 2048 samples = 1.04 s, the first of a
+run 1.12 s), a 30 s feed of N = 768000 samples gives K = floor((N - L) / H) + 1 = 374 segments:
+28 full intervals and one of 10 segments, ended when the next feed's frames count from 0 again
+(or flushed by SIGTERM after the last feed). So 29 records per sensor per feed, not 30. A
+reconnect is not a lost frame: no record may be flagged as a sensor fault for it.
+
 Fails (exit 1) when resident memory grows by more than --max-rss-growth-mib over the measured part,
-or the descriptor count ends above where it was after warm-up: thresholds of this script, no source.
+or the descriptor count ends above where it was after warm-up (thresholds of this script, no
+source), when the records committed differ from the count above, or when a sensor fault was raised.
 
 usage: /usr/bin/python3 tests/reliability/soak.py [--binary PATH] [--sensors 50] [--minutes 10]
                                                  [--every 5] [--max-rss-growth-mib 8]
 """
 import argparse
 import json
+import math
 import os
 import pathlib
 import signal
@@ -41,6 +51,21 @@ def rss_kib(pid):
 
 def open_fds(pid):
     return len(os.listdir(f"/proc/{pid}/fd"))
+
+
+def cpu_ticks(pid):
+    """User + system CPU time of a process so far, in clock ticks (/proc/PID/stat)."""
+    fields = pathlib.Path(f"/proc/{pid}/stat").read_text().rsplit(")", 1)[1].split()
+    return int(fields[11]) + int(fields[12])
+
+
+def records_per_feed(seconds, rate=25600, segment=4096, hop=2048, interval_s=1.0):
+    """Records one gap-free feed gives (docs/records.md): full intervals, plus the partial one its
+    end cuts short."""
+    n = int(seconds * rate)
+    k = (n - segment) // hop + 1 if n >= segment else 0
+    s = math.floor(interval_s * rate / hop + 0.5)  # C++ std::round: 12.5 -> 13 (Python's gives 12)
+    return k // s + (1 if k % s else 0)
 
 
 def slope_per_minute(points):
@@ -106,6 +131,16 @@ def main():
                 next_sample += args.every
             time.sleep(0.05)
         feed.wait()
+        # Frames the last feed sent may still sit in the daemon's socket and queues: stop it once
+        # its CPU time stands still (two readings 0.5 s apart), at most 60 s later.
+        idle_deadline = time.time() + 60
+        ticks = cpu_ticks(daemon.pid)
+        while time.time() < idle_deadline:
+            time.sleep(0.5)
+            now = cpu_ticks(daemon.pid)
+            if now == ticks:
+                break
+            ticks = now
         daemon.send_signal(signal.SIGTERM)
         daemon.wait(timeout=120)
         log.seek(0)
@@ -125,9 +160,17 @@ def main():
     print(f"open descriptors after warm-up: {fds[0][1]} -> {fds[-1][1]} "
           f"(max {max(v for _, v in fds)}); trend {slope_per_minute(fds):+.3f} per min")
     stored = [line for line in text.splitlines() if "records committed" in line]
+    committed = None
     if stored:
         print("daemon: " + stored[-1].split("storage: ", 1)[-1])
-    failed = rss_growth > args.max_rss_growth_mib or fds[-1][1] > fds[0][1]
+        committed = int(stored[-1].split("storage: ", 1)[-1].split()[0])
+    feeds = fed_seconds // 30
+    expected = feeds * args.sensors * records_per_feed(30)
+    faults = sum(1 for line in text.splitlines() if "-> sensor_fault" in line)
+    print(f"records: {committed} committed, {expected} expected ({feeds} feeds x {args.sensors} "
+          f"sensors x {records_per_feed(30)}); sensor faults raised: {faults}")
+    failed = (rss_growth > args.max_rss_growth_mib or fds[-1][1] > fds[0][1] or
+              committed != expected or faults > 0)
     print("FAIL" if failed else "flat: PASS")
     sys.exit(1 if failed else 0)
 

@@ -6,7 +6,8 @@
 // time, not the daemon's clock: a replayed recording gives the same records as the live stream.
 // Indicators cover the samples up to the end of the interval's last segment; each block is split at
 // that point so the time-domain and spectral figures of a record describe the same stretch of
-// signal. A sequence gap or a time jump ends the interval in progress early (a shorter record) and
+// signal. A sequence gap, a sequence number that goes back (a reconnected sender counting from 0:
+// not counted as a loss) or a time jump ends the interval in progress early (a shorter record) and
 // restarts the segmenting, so no segment and no average spans a gap; a block at another sample
 // rate, or holding NaN/Inf, is rejected and counted. Thread-safety: one thread at
 // a time per pipeline (the router runs each point on its own strand).
