@@ -87,6 +87,21 @@ def cpu_seconds_so_far(pid):
     return (int(fields[11]) + int(fields[12])) / os.sysconf("SC_CLK_TCK")
 
 
+def cpu_seconds_by_thread_name(pid):
+    """CPU seconds (user + system) of a running process's threads, summed by thread name (the
+    daemon names its threads: spw-points for the processing threads, spw-network, spw-storage)."""
+    by_name = {}
+    for task in pathlib.Path(f"/proc/{pid}/task").iterdir():
+        try:
+            name = (task / "comm").read_text().strip()
+            fields = (task / "stat").read_text().rsplit(")", 1)[1].split()
+        except OSError:
+            continue  # the thread ended meanwhile
+        ticks = int(fields[11]) + int(fields[12])  # utime, stime: fields 14 and 15 of stat
+        by_name[name] = by_name.get(name, 0.0) + ticks / os.sysconf("SC_CLK_TCK")
+    return by_name
+
+
 def run_daemon_round(binary, n, seconds, workdir, paced, frame_samples=2560, interval_s=1,
                      feeder=None, distinct_signals=0):
     config = workdir / f"site_{n}.yaml"
@@ -108,6 +123,7 @@ def run_daemon_round(binary, n, seconds, workdir, paced, frame_samples=2560, int
         time.sleep(0.05)
     port = json.loads(ready.read_text())["listeners"][0]["port"]
     startup_cpu = cpu_seconds_so_far(daemon.pid)  # building N pipelines is not steady state
+    threads_at_start = cpu_seconds_by_thread_name(daemon.pid)
     feed = [str(feeder or binary), "feed", "--to", f"127.0.0.1:{port}", "--sensors", str(n),
             "--seconds", str(seconds), "--engineering", "--frame-samples", str(frame_samples)]
     if distinct_signals:
@@ -123,6 +139,9 @@ def run_daemon_round(binary, n, seconds, workdir, paced, frame_samples=2560, int
     # The feeder's own sending time (after any signals it makes up front): what pacing is judged by.
     sending = re.search(r" in ([0-9.]+) s ", fed.stdout)
     feed_send_s = float(sending.group(1)) if sending else feed_wall
+    threads_at_end = cpu_seconds_by_thread_name(daemon.pid)
+    threads_cpu = {name: cpu - threads_at_start.get(name, 0.0)
+                   for name, cpu in threads_at_end.items()}
     daemon.send_signal(signal.SIGTERM)
     _, status, usage = os.wait4(daemon.pid, 0)  # the daemon's own CPU time, all its threads
     daemon.returncode = os.waitstatus_to_exitcode(status)
@@ -140,6 +159,7 @@ def run_daemon_round(binary, n, seconds, workdir, paced, frame_samples=2560, int
         "wall_s": wall,
         "feed_wall_s": feed_wall,
         "feed_send_s": feed_send_s,
+        "threads_cpu_s": threads_cpu,
         "daemon_cpu_s": usage.ru_utime + usage.ru_stime - startup_cpu,
         "startup_cpu_s": startup_cpu,
         "records": number(r"stopped; (\d+) records written"),
@@ -235,6 +255,10 @@ def main():
                 result["ratio_per_core_to_estimator"] = (result["daemon_sensors_per_core"] * RATE /
                                                          estimator)
                 result["estimator_sensors_realtime"] = estimator / RATE
+                # The processing thread alone (paced rounds: it has caught up when the feed ends).
+                points_cpu = result["threads_cpu_s"].get("spw-points", 0.0)
+                result["points_thread_sensors_per_cpu_s"] = (
+                    n * args.seconds / points_cpu if points_cpu > 0 else None)
                 result["ratio_daemon_to_estimator"] = daemon_rate / estimator
                 rows[n].append(result)
                 print(json.dumps(result), flush=True)
@@ -249,9 +273,10 @@ def main():
     print("\nsummary: sensors at 25.6 kHz held in real time (medians over rounds; one processing "
           "thread).\n  daemon, wall: signal seconds per wall second, feeder included; daemon, per "
           "CPU s: signal seconds per second of the daemon's CPU time after start-up (all its threads);\n  "
+          "processing thread: the same per CPU second of the spw-points thread alone (--realtime-rounds);\n  "
           "estimator only: welch_bench's Welch + indicators on one core")
     print(f"{'sensors':>8} {'daemon, wall':>13} {'daemon, per CPU s':>18} {'estimator only':>15} "
-          f"{'per-core/estimator':>19} {'records lost':>13}" +
+          f"{'per-core/estimator':>19} {'processing thread':>18} {'records lost':>13}" +
           (f" {'held (rounds)':>14}" if args.realtime_rounds else ""))
     for n in counts:
         rs = rows[n]
@@ -261,6 +286,7 @@ def main():
               f"{statistics.median(x['daemon_sensors_per_core'] for x in rs):>18.0f} "
               f"{statistics.median(x['estimator_sensors_realtime'] for x in rs):>15.0f} "
               f"{statistics.median(x['ratio_per_core_to_estimator'] for x in rs):>19.2f} "
+              f"{statistics.median(x['points_thread_sensors_per_cpu_s'] or 0 for x in rs):>18.0f} "
               f"{max(lost):>13}" +
               (f" {sum(1 for x, l in zip(rs, lost) if l == 0 and x['feed_send_s'] <= 1.02 * args.seconds):>8} of {len(rs)}"
                if args.realtime_rounds else ""))

@@ -6,6 +6,7 @@
 #include <fstream>
 
 #include "spinward/daemon/frame_codec.h"
+#include "thread_name.h"
 
 namespace spinward::daemon {
 namespace fs = std::filesystem;
@@ -33,6 +34,7 @@ Status DropDirectory::Start() {
   if (!ec) fs::create_directories(options_.path / "rejected", ec);
   if (ec) return Status::Fail(Describe() + ": " + ec.message());
   thread_ = std::thread([this] {
+    NameThisThread("spw-drop-dir");
     while (!stopping_) {
       ScanOnce();
       auto until = std::chrono::steady_clock::now() + options_.poll_interval;

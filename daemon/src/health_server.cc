@@ -14,6 +14,7 @@
 
 #include "metrics_text.h"
 #include "spinward/daemon/json_lines_sink.h"
+#include "thread_name.h"
 
 namespace spinward::daemon {
 
@@ -242,7 +243,10 @@ Status HealthServer::Start() {
   impl_->bound_port = acceptor.local_endpoint(ec).port();
   impl_->io.restart();
   impl_->Accept();
-  impl_->thread = std::thread([impl = impl_.get()] { impl->io.run(); });
+  impl_->thread = std::thread([impl = impl_.get()] {
+    NameThisThread("spw-health");
+    impl->io.run();
+  });
   return Status::Ok();
 }
 

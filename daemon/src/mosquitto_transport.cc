@@ -12,6 +12,8 @@
 #include <mutex>
 #include <thread>
 
+#include "thread_name.h"
+
 namespace spinward::daemon {
 namespace {
 
@@ -242,7 +244,10 @@ Status MosquittoTransport::Start(MqttCallbacks callbacks, const MqttMessage& wil
   if (rc != MOSQ_ERR_SUCCESS) return Status::Fail("messaging: last will: " + ErrorText(rc));
   impl_->callbacks = std::move(callbacks);
   impl_->Say("info", "connecting to broker " + impl_->Broker() + " as '" + impl_->client_id + "'");
-  impl_->thread = std::thread([impl = impl_.get()] { impl->Run(); });
+  impl_->thread = std::thread([impl = impl_.get()] {
+    NameThisThread("spw-mqtt");
+    impl->Run();
+  });
   return Status::Ok();
 }
 

@@ -12,6 +12,7 @@
 #include "spinward/daemon/json_lines_sink.h"
 #include "spinward/storage/time_text.h"
 #include "spinward/storage/trend_store.h"
+#include "thread_name.h"
 
 namespace spinward::daemon {
 namespace {
@@ -350,7 +351,10 @@ Result<std::unique_ptr<MqttPublisher>> MqttPublisher::Start(
     return Error{s.message()};
   }
   if (raw->options.outbox_notifier) raw->options.outbox_notifier->Listen([raw] { raw->Wake(); });
-  raw->thread = std::thread([raw] { raw->Run(); });
+  raw->thread = std::thread([raw] {
+    NameThisThread("spw-publisher");
+    raw->Run();
+  });
   return std::unique_ptr<MqttPublisher>(new MqttPublisher(std::move(impl)));
 }
 

@@ -17,6 +17,7 @@
 #include <thread>
 
 #include "rate_limited_reporter.h"
+#include "thread_name.h"
 
 namespace spinward::daemon {
 
@@ -41,7 +42,10 @@ NetworkThreads::~NetworkThreads() { Stop(); }
 void NetworkThreads::Start() {
   if (!impl_->threads.empty()) return;
   for (std::size_t i = 0; i < impl_->count; ++i)
-    impl_->threads.emplace_back([this] { impl_->io.run(); });
+    impl_->threads.emplace_back([this] {
+      NameThisThread("spw-network");
+      impl_->io.run();
+    });
 }
 void NetworkThreads::Stop() {
   impl_->guard.reset();

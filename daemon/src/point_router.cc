@@ -6,12 +6,14 @@
 #include <boost/asio/strand.hpp>
 #include <boost/asio/thread_pool.hpp>
 #include <chrono>
+#include <latch>
 #include <map>
 #include <shared_mutex>
 #include <thread>
 
 #include "rate_limited_reporter.h"
 #include "spinward/daemon/sample_buffer_pool.h"
+#include "thread_name.h"
 
 namespace spinward::daemon {
 namespace {
@@ -46,11 +48,25 @@ struct PointRouter::Impl {
   RouterTotals retired_totals;
 
   Impl(RouterOptions o, std::shared_ptr<RecordSink> s, Reporter r)
-      : options(o),
-        sink(std::move(s)),
-        report(std::move(r)),
-        pool(o.worker_threads ? o.worker_threads
-                              : std::max<std::size_t>(1, std::thread::hardware_concurrency())) {}
+      : options(o), sink(std::move(s)), report(std::move(r)), pool(PoolSize(o)) {
+    // Name every worker thread: one task each, none finishing before all have started, so no
+    // thread can take two of them. The latch is shared: a task may still be leaving its wait
+    // when this constructor has already returned.
+    const std::size_t threads = PoolSize(o);
+    auto all_started = std::make_shared<std::latch>(static_cast<std::ptrdiff_t>(threads));
+    for (std::size_t i = 0; i < threads; ++i) {
+      boost::asio::post(pool, [all_started] {
+        NameThisThread("spw-points");
+        all_started->arrive_and_wait();
+      });
+    }
+    all_started->wait();
+  }
+
+  static std::size_t PoolSize(const RouterOptions& o) {
+    return o.worker_threads ? o.worker_threads
+                            : std::max<std::size_t>(1, std::thread::hardware_concurrency());
+  }
 
   void Run(const std::shared_ptr<PointWorker>& worker, SampleBlock block) {
     const std::size_t n = block.samples.size();

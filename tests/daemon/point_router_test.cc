@@ -7,6 +7,8 @@
 #include <gtest/gtest.h>
 
 #include <condition_variable>
+#include <filesystem>
+#include <fstream>
 #include <map>
 #include <mutex>
 #include <thread>
@@ -133,6 +135,26 @@ TEST(PointRouter, BlocksDecodedIntoRecycledBuffersGiveTheSameRecords) {
   ExpectRecordsMatch(sink->Records(), ExpectedRecords({{signal, kStartNs}}, point, true));
   EXPECT_GT(recycled, 0u) << "no processed block's buffer was handed out again";
   EXPECT_GE(router.SpareSampleBuffer().capacity(), block_size);
+}
+
+TEST(PointRouter, WorkerThreadsCarryTheirNameForTopAndTheBench) {
+  // Linux shows a thread's name in /proc/self/task/*/comm (proc(5)); `top -H` reads it there.
+  auto count_named = [] {
+    int n = 0;
+    for (const auto& task : std::filesystem::directory_iterator("/proc/self/task")) {
+      std::ifstream comm(task.path() / "comm");
+      std::string name;
+      std::getline(comm, name);
+      n += name == "spw-points";
+    }
+    return n;
+  };
+  const int before = count_named();
+  {
+    PointRouter router(RouterOptions{3, 4096}, std::make_shared<CollectingSink>());
+    EXPECT_EQ(count_named() - before, 3);
+  }
+  EXPECT_EQ(count_named(), before);
 }
 
 TEST(PointRouter, UnknownSensorIsRefusedAndCounted) {
